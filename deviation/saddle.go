@@ -35,3 +35,13 @@ func (s *Saddle) ToSite(q r3.Vec) r3.Vec {
 	v = r3.Add(v, r3.Scale(q.Z, s.Axes[2]))
 	return v
 }
+
+// ClosestLocal returns the closest point foot on the saddle to the local
+// point q, and the signed orthogonal distance d = ±|q − foot|, positive
+// where q lies on the local +z side (the side of the normal
+// (−2K1x, −2K2y, 1) at foot).
+//
+// (Contract stub: the solver lands in the measurement-chain work.)
+func (s *Saddle) ClosestLocal(q r3.Vec) (foot r3.Vec, d float64) {
+	panic("deviation: ClosestLocal not implemented yet")
+}
