@@ -1,0 +1,382 @@
+package mesh
+
+import (
+	"math"
+
+	"gonum.org/v1/gonum/spatial/r3"
+)
+
+// node is one bounding box of the hierarchy, 32 bytes. The boxes are
+// float32, rounded outward after padding by boxPad·extent, so they
+// contain their triangles' float64 coordinates with a margin far above
+// float64 rounding; a box distance is therefore a strict lower bound of
+// the computed distance of every triangle inside, and pruning never
+// changes the answer (the BVH agrees bit for bit with a scan of all
+// triangles).
+type node struct {
+	lo, hi [3]float32
+	// first is the first triangle of a leaf, or the left child of an
+	// internal node (the right child is first+1).
+	first int32
+	// count is the number of triangles of a leaf, 0 for an internal node.
+	count int32
+}
+
+// Build parameters.
+const (
+	sahBins = 16 // bins per axis (Wald 2007 uses 8–32; common practice)
+	// maxLeaf forces a split of larger leaves; SAH may stop earlier.
+	maxLeaf = 8
+	// sahTraversal is the cost of visiting a node relative to one
+	// triangle test (common practice: about 1).
+	sahTraversal = 1.0
+	// maxDepth bounds the build depth: below it splits fall back to the
+	// median of the longest centroid axis, which halves the count, so the
+	// depth never exceeds maxDepth + 32 < stackSize.
+	maxDepth  = 40
+	stackSize = 128
+	// boxPad pads boxes by this fraction of the mesh extent before the
+	// outward float32 rounding (see node).
+	boxPad = 1e-9
+)
+
+type buildTri struct {
+	lo, hi, c r3.Vec
+}
+
+// buildHierarchy orders the triangles for the hierarchy and fills m.tri,
+// m.vid and m.nodes.
+func (m *Mesh) buildHierarchy(local []r3.Vec, tris [][3]int32) {
+	bt := make([]buildTri, len(tris))
+	ext := 0.0
+	for i, f := range tris {
+		a, b, c := local[f[0]], local[f[1]], local[f[2]]
+		lo, hi := minVec(a, minVec(b, c)), maxVec(a, maxVec(b, c))
+		bt[i] = buildTri{lo, hi, r3.Scale(0.5, r3.Add(lo, hi))}
+		ext = math.Max(ext, math.Max(math.Abs(lo.X), math.Max(math.Abs(lo.Y), math.Abs(lo.Z))))
+		ext = math.Max(ext, math.Max(math.Abs(hi.X), math.Max(math.Abs(hi.Y), math.Abs(hi.Z))))
+	}
+	idx := make([]int32, len(tris))
+	for i := range idx {
+		idx[i] = int32(i)
+	}
+	b := builder{bt: bt, idx: idx, pad: boxPad * (ext + 1)}
+	b.nodes = make([]node, 1, 2*len(tris)/3+1)
+	b.split(0, 0, int32(len(tris)), 0)
+	m.nodes = b.nodes
+	m.tri = make([]triangle, len(tris))
+	m.vid = make([][3]int32, len(tris))
+	for j, i := range idx {
+		f := tris[i]
+		m.vid[j] = f
+		m.tri[j] = triangle{local[f[0]], local[f[1]], local[f[2]]}
+	}
+}
+
+type builder struct {
+	bt    []buildTri
+	idx   []int32
+	nodes []node
+	pad   float64
+}
+
+type bin struct {
+	lo, hi r3.Vec
+	n      int
+}
+
+func emptyBox() (r3.Vec, r3.Vec) {
+	inf := math.Inf(1)
+	return r3.Vec{X: inf, Y: inf, Z: inf}, r3.Vec{X: -inf, Y: -inf, Z: -inf}
+}
+
+func halfArea(lo, hi r3.Vec) float64 {
+	d := r3.Sub(hi, lo)
+	return d.X*d.Y + d.Y*d.Z + d.Z*d.X
+}
+
+func comp(v r3.Vec, k int) float64 {
+	switch k {
+	case 0:
+		return v.X
+	case 1:
+		return v.Y
+	}
+	return v.Z
+}
+
+// split makes node ni cover idx[s:e], splitting it by the binned surface
+// area heuristic (Wald 2007) while that is cheaper than a leaf.
+func (b *builder) split(ni int, s, e int32, depth int) {
+	lo, hi := emptyBox()
+	clo, chi := emptyBox()
+	for _, i := range b.idx[s:e] {
+		t := &b.bt[i]
+		lo, hi = minVec(lo, t.lo), maxVec(hi, t.hi)
+		clo, chi = minVec(clo, t.c), maxVec(chi, t.c)
+	}
+	b.setBox(ni, lo, hi)
+	n := e - s
+	if n <= 2 {
+		b.nodes[ni].first, b.nodes[ni].count = s, n
+		return
+	}
+	axis, cut := -1, 0.0
+	if depth < maxDepth {
+		axis, cut = b.sahCut(s, e, clo, chi, halfArea(lo, hi))
+	}
+	if axis == -2 { // SAH prefers a leaf
+		b.nodes[ni].first, b.nodes[ni].count = s, n
+		return
+	}
+	mid := int32(-1)
+	if axis >= 0 {
+		if mid = b.partition(s, e, axis, cut); mid == s || mid == e {
+			mid = -1
+		}
+	}
+	if mid < 0 {
+		if n <= maxLeaf {
+			b.nodes[ni].first, b.nodes[ni].count = s, n
+			return
+		}
+		mid = b.median(s, e, clo, chi)
+	}
+	l := int32(len(b.nodes))
+	b.nodes = append(b.nodes, node{}, node{})
+	b.nodes[ni].first, b.nodes[ni].count = l, 0
+	b.split(int(l), s, mid, depth+1)
+	b.split(int(l)+1, mid, e, depth+1)
+}
+
+// sahCut returns the best split plane (axis, coordinate), −2 when a leaf
+// is cheaper than any split of at most maxLeaf triangles, or −1 when the
+// centroids do not spread.
+func (b *builder) sahCut(s, e int32, clo, chi r3.Vec, area float64) (int, float64) {
+	n := e - s
+	bestCost, bestAxis, bestCut := math.Inf(1), -1, 0.0
+	var bins [sahBins]bin
+	var rightArea [sahBins]float64
+	var rightN [sahBins]int
+	for axis := range 3 {
+		c0, c1 := comp(clo, axis), comp(chi, axis)
+		if !(c1 > c0) {
+			continue
+		}
+		scale := sahBins / (c1 - c0)
+		for k := range bins {
+			bins[k].lo, bins[k].hi = emptyBox()
+			bins[k].n = 0
+		}
+		for _, i := range b.idx[s:e] {
+			t := &b.bt[i]
+			k := min(int((comp(t.c, axis)-c0)*scale), sahBins-1)
+			bins[k].lo, bins[k].hi = minVec(bins[k].lo, t.lo), maxVec(bins[k].hi, t.hi)
+			bins[k].n++
+		}
+		lo, hi := emptyBox()
+		cnt := 0
+		for k := sahBins - 1; k > 0; k-- {
+			lo, hi = minVec(lo, bins[k].lo), maxVec(hi, bins[k].hi)
+			cnt += bins[k].n
+			rightN[k], rightArea[k] = cnt, 0
+			if cnt > 0 {
+				rightArea[k] = halfArea(lo, hi)
+			}
+		}
+		lo, hi = emptyBox()
+		cnt = 0
+		for k := 0; k < sahBins-1; k++ {
+			lo, hi = minVec(lo, bins[k].lo), maxVec(hi, bins[k].hi)
+			cnt += bins[k].n
+			if cnt == 0 || rightN[k+1] == 0 {
+				continue
+			}
+			cost := float64(cnt)*halfArea(lo, hi) + float64(rightN[k+1])*rightArea[k+1]
+			if cost < bestCost {
+				bestCost, bestAxis, bestCut = cost, axis, c0+float64(k+1)/scale
+			}
+		}
+	}
+	if bestAxis < 0 {
+		return -1, 0
+	}
+	if n <= maxLeaf && area > 0 && sahTraversal+bestCost/area >= float64(n) {
+		return -2, 0
+	}
+	return bestAxis, bestCut
+}
+
+// partition moves the triangles with centroid below cut on axis to the
+// front of idx[s:e] and returns the first index of the rest.
+func (b *builder) partition(s, e int32, axis int, cut float64) int32 {
+	i, j := s, e-1
+	for i <= j {
+		if comp(b.bt[b.idx[i]].c, axis) < cut {
+			i++
+		} else {
+			b.idx[i], b.idx[j] = b.idx[j], b.idx[i]
+			j--
+		}
+	}
+	return i
+}
+
+// median splits idx[s:e] in halves along the longest centroid axis (by
+// index when all centroids coincide).
+func (b *builder) median(s, e int32, clo, chi r3.Vec) int32 {
+	d := r3.Sub(chi, clo)
+	axis := 0
+	if d.Y > d.X {
+		axis = 1
+	}
+	if d.Z > math.Max(d.X, d.Y) {
+		axis = 2
+	}
+	mid := s + (e-s)/2
+	// Quickselect of the median centroid.
+	lo, hi := s, e-1
+	for lo < hi {
+		pv := comp(b.bt[b.idx[(lo+hi)/2]].c, axis)
+		i, j := lo, hi
+		for i <= j {
+			for comp(b.bt[b.idx[i]].c, axis) < pv {
+				i++
+			}
+			for comp(b.bt[b.idx[j]].c, axis) > pv {
+				j--
+			}
+			if i <= j {
+				b.idx[i], b.idx[j] = b.idx[j], b.idx[i]
+				i++
+				j--
+			}
+		}
+		if mid <= j {
+			hi = j
+		} else if mid >= i {
+			lo = i
+		} else {
+			break
+		}
+	}
+	return mid
+}
+
+func (b *builder) setBox(ni int, lo, hi r3.Vec) {
+	nd := &b.nodes[ni]
+	nd.lo = [3]float32{down32(lo.X - b.pad), down32(lo.Y - b.pad), down32(lo.Z - b.pad)}
+	nd.hi = [3]float32{up32(hi.X + b.pad), up32(hi.Y + b.pad), up32(hi.Z + b.pad)}
+}
+
+// down32 is the largest float32 ≤ x; up32 the smallest ≥ x.
+func down32(x float64) float32 {
+	f := float32(x)
+	if float64(f) > x {
+		f = math.Nextafter32(f, float32(math.Inf(-1)))
+	}
+	return f
+}
+
+func up32(x float64) float32 {
+	f := float32(x)
+	if float64(f) < x {
+		f = math.Nextafter32(f, float32(math.Inf(1)))
+	}
+	return f
+}
+
+// boxDist2 is the squared distance from q to the box of nd (0 inside).
+func boxDist2(nd *node, q r3.Vec) float64 {
+	d := 0.0
+	if v := float64(nd.lo[0]) - q.X; v > 0 {
+		d += v * v
+	} else if v := q.X - float64(nd.hi[0]); v > 0 {
+		d += v * v
+	}
+	if v := float64(nd.lo[1]) - q.Y; v > 0 {
+		d += v * v
+	} else if v := q.Y - float64(nd.hi[1]); v > 0 {
+		d += v * v
+	}
+	if v := float64(nd.lo[2]) - q.Z; v > 0 {
+		d += v * v
+	} else if v := q.Z - float64(nd.hi[2]); v > 0 {
+		d += v * v
+	}
+	return d
+}
+
+// hit is the closest triangle found so far.
+type hit struct {
+	d2   float64
+	foot r3.Vec
+	tri  int32
+	feat int8
+}
+
+// better orders candidates by distance, then by triangle index, so that
+// the answer does not depend on the visiting order.
+func (h *hit) consider(q r3.Vec, t int32, tr *triangle) {
+	c, f := closestOnTriangle(q, tr.a, tr.b, tr.c)
+	d2 := dist2(q, c)
+	if d2 < h.d2 || d2 == h.d2 && t < h.tri {
+		*h = hit{d2, c, t, f}
+	}
+}
+
+// nearest finds the closest triangle to the local point q by a
+// nearest-first descent: at each node the nearer child is entered and the
+// farther one stacked with its box distance; stacked nodes farther than
+// the best distance so far are skipped.
+func (m *Mesh) nearest(q r3.Vec) hit {
+	type entry struct {
+		n  int32
+		d2 float64
+	}
+	var stack [stackSize]entry
+	sp := 0
+	best := hit{d2: math.Inf(1), tri: -1, feat: noFeature}
+	n := int32(0)
+	for {
+		nd := &m.nodes[n]
+		if nd.count > 0 {
+			for t := nd.first; t < nd.first+nd.count; t++ {
+				best.consider(q, t, &m.tri[t])
+			}
+		} else {
+			l, r := nd.first, nd.first+1
+			dl, dr := boxDist2(&m.nodes[l], q), boxDist2(&m.nodes[r], q)
+			if dr < dl {
+				l, r, dl, dr = r, l, dr, dl
+			}
+			if dl <= best.d2 {
+				if dr <= best.d2 {
+					stack[sp] = entry{r, dr}
+					sp++
+				}
+				n = l
+				continue
+			}
+		}
+		for {
+			if sp == 0 {
+				return best
+			}
+			sp--
+			if stack[sp].d2 <= best.d2 {
+				n = stack[sp].n
+				break
+			}
+		}
+	}
+}
+
+// nearestBrute scans every triangle (the test reference for nearest).
+func (m *Mesh) nearestBrute(q r3.Vec) hit {
+	best := hit{d2: math.Inf(1), tri: -1, feat: noFeature}
+	for t := range m.tri {
+		best.consider(q, int32(t), &m.tri[t])
+	}
+	return best
+}

@@ -1,0 +1,83 @@
+package mesh
+
+import (
+	"math"
+
+	"gonum.org/v1/gonum/spatial/r3"
+
+	"saddlecheck/deviation"
+)
+
+// Project returns the closest point of the mesh to p (site frame, metres)
+// and the signed distance to it.
+//
+// |D| is the exact Euclidean distance to the closest mesh point (up to
+// float64 rounding in coordinates relative to the mesh centre). Its sign
+// is that of (p − Foot)·n, where n is the angle-weighted pseudonormal of
+// the feature holding Foot: the face normal in a face interior, the sum of
+// the incident face normals on an edge, the angle-weighted vertex normal
+// at a vertex (Bærentzen & Aanæs 2005, theorem 1: for a closed, or
+// locally manifold, surface this sign is the inside/outside sign).
+//
+// Normal is (p − Foot)/D when the closest point is on an edge or vertex
+// and |D| > 0 (so that p = Foot + D·Normal exactly as in the face case),
+// the face normal in a face interior, and the unit pseudonormal when p is
+// on the mesh. Inside is false when Foot is on a boundary edge or vertex,
+// unless the part of p − Foot tangential to the closest triangle is
+// shorter than Options.MarginM.
+//
+// Project allocates nothing and is safe for concurrent use.
+func (m *Mesh) Project(p r3.Vec) deviation.Projection {
+	q := r3.Sub(p, m.centre)
+	h := m.nearest(q)
+	return m.projection(q, h)
+}
+
+func (m *Mesh) projection(q r3.Vec, h hit) deviation.Projection {
+	t := h.tri
+	tr := &m.tri[t]
+	nf := r3.Unit(r3.Cross(r3.Sub(tr.b, tr.a), r3.Sub(tr.c, tr.a)))
+	diff := r3.Sub(q, h.foot)
+	dist := math.Sqrt(h.d2)
+	var pn r3.Vec
+	boundary := false
+	switch {
+	case h.feat == featFace:
+		pn = nf
+	case h.feat < featVert:
+		he := 3*t + int32(h.feat-featEdge)
+		if m.ring[he] == he {
+			boundary = true
+			pn = nf
+		} else {
+			pn = nf
+			for o := m.ring[he]; o != he; o = m.ring[o] {
+				u := &m.tri[o/3]
+				pn = r3.Add(pn, r3.Unit(r3.Cross(r3.Sub(u.b, u.a), r3.Sub(u.c, u.a))))
+			}
+		}
+	default:
+		v := m.vid[t][h.feat-featVert]
+		pn = m.vnorm[v]
+		boundary = m.vbound[v]
+	}
+	d := dist
+	if r3.Dot(diff, pn) < 0 {
+		d = -dist
+	}
+	var n r3.Vec
+	switch {
+	case h.feat == featFace:
+		n = nf
+	case dist > 0:
+		n = r3.Scale(1/d, diff)
+	default:
+		n = r3.Unit(pn)
+	}
+	inside := true
+	if boundary {
+		tang := r3.Sub(diff, r3.Scale(r3.Dot(diff, nf), nf))
+		inside = r3.Norm(tang) < m.margin
+	}
+	return deviation.Projection{D: d, Foot: r3.Add(h.foot, m.centre), Normal: n, Inside: inside}
+}
