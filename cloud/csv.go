@@ -1,0 +1,711 @@
+package cloud
+
+import (
+	"bufio"
+	"bytes"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"strconv"
+	"strings"
+
+	"gonum.org/v1/gonum/spatial/r3"
+)
+
+// Limits of the delimited-text reader.
+const (
+	// maxLine bounds one physical line; a longer one is an error (a
+	// survey row is well under 1 KiB).
+	maxLine = 1 << 20
+	// sampleLines is how many data lines decide delimiter and header.
+	sampleLines = 20
+)
+
+// Column roles of a delimited file.
+const (
+	roleID   = "id"
+	roleE    = "e"
+	roleN    = "n"
+	roleZ    = "z"
+	roleCode = "code"
+	roleSkip = "-"
+)
+
+// columnRole maps a header or --columns name to its role ("id", "e", "n",
+// "z", "code"), or "" for any other name. Matching is case-insensitive and
+// ignores a trailing unit such as "Easting (m)" or "Z [ft]". The spellings
+// are those of common survey exports (common practice); x is taken as the
+// easting and y as the northing, as in the XYZ convention.
+func columnRole(name string) string {
+	n := strings.ToLower(strings.TrimSpace(name))
+	if i := strings.IndexAny(n, "(["); i > 0 {
+		n = strings.TrimSpace(n[:i])
+	}
+	switch n {
+	case "point", "pt", "id", "name", "pointid", "point_id", "point id", "pt_id", "ptid", "point_name", "pointname":
+		return roleID
+	case "e", "east", "easting", "x":
+		return roleE
+	case "n", "north", "northing", "y":
+		return roleN
+	case "z", "h", "elev", "elevation", "height", "rl":
+		return roleZ
+	case "code", "desc", "description", "remark", "remarks", "descr":
+		return roleCode
+	case "-", "_", "skip":
+		return roleSkip
+	}
+	return ""
+}
+
+// span is the byte range [a, b) of one field within a line.
+type span struct{ a, b int }
+
+// csvReader reads delimited text: total-station shot files, XYZ exports.
+type csvReader struct {
+	path  string
+	close func() error
+	br    *bufio.Reader
+	unit  Unit
+
+	delim    byte // field separator; 0 means runs of blanks
+	decComma bool // a ',' inside a number is its decimal mark
+
+	ncols                            int
+	idCol, eCol, nCol, zCol, codeCol int // -1 when absent
+	attrCols                         []int
+	attrNames                        []string
+
+	pending []sampled // data lines read while sniffing, not yet returned
+	lineNo  int64     // physical lines read so far
+	buf     []byte    // current line
+	fields  []span
+	arena   []byte // id and code bytes of the current chunk
+	strs    []span // per record: id span, code span
+
+	rows, rejected int64
+	firstBad       int64
+	firstReason    string
+	ids            idSet
+	dups           int64
+	dupID          string
+	dupLine        int64
+	dupFirst       int64
+
+	info Info
+	err  error // sticky fatal error, or io.EOF once done
+}
+
+// sampled is one data line kept from sniffing.
+type sampled struct {
+	line int64
+	text []byte
+}
+
+// OpenCSV opens a delimited text file (comma, semicolon, tab or blank
+// separated; see the package documentation) at path.
+func OpenCSV(path string, opt Options) (Reader, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, err
+	}
+	r, err := newCSV(f, path, opt)
+	if err != nil {
+		f.Close()
+		return nil, err
+	}
+	r.close = f.Close
+	return r, nil
+}
+
+// newCSV reads the first lines of src to settle delimiter, header and
+// columns. path only names the file in errors.
+func newCSV(src io.Reader, path string, opt Options) (*csvReader, error) {
+	r := &csvReader{
+		path: path,
+		br:   bufio.NewReaderSize(src, 1<<16),
+		unit: opt.Unit,
+	}
+	if r.unit.Metres == 0 {
+		r.unit = Metre
+	}
+	r.info = Info{Path: path, Format: "csv", Count: -1, Unit: r.unit}
+	var first []byte // first data line: header or data
+	var firstNo int64
+	for len(r.pending) < sampleLines {
+		line, err := r.dataLine()
+		if err == io.EOF {
+			break
+		}
+		if err != nil {
+			return nil, err
+		}
+		if first == nil {
+			first, firstNo = bytes.Clone(line), r.lineNo
+		}
+		r.pending = append(r.pending, sampled{r.lineNo, bytes.Clone(line)})
+	}
+	if first == nil {
+		return nil, &ParseError{Path: path, Line: int(r.lineNo), Err: errors.New("no data lines (the file is empty or only comments)")}
+	}
+	lines := make([][]byte, len(r.pending))
+	for i, s := range r.pending {
+		lines[i] = s.text
+	}
+	r.delim = detectDelim(lines)
+	r.decComma = r.delim == ';' || r.delim == '\t'
+	r.info.Facts = append(r.info.Facts, Fact{"delimiter", delimName(r.delim)})
+	if r.decComma {
+		r.info.Facts = append(r.info.Facts, Fact{"decimal mark", "point or comma"})
+	}
+
+	names := r.splitStrings(first)
+	isHeader := true
+	for _, s := range names {
+		if _, ok := r.parseNum([]byte(s)); ok {
+			isHeader = false
+			break
+		}
+	}
+	var err error
+	switch {
+	case opt.Columns != nil:
+		if isHeader {
+			r.pending = r.pending[1:]
+			r.info.Warnings = append(r.info.Warnings, fmt.Sprintf("line %d looks like a header (%s); it was skipped and --columns used instead", firstNo, strings.Join(names, ",")))
+		}
+		err = r.setColumns(opt.Columns, false, 0)
+	case isHeader:
+		r.pending = r.pending[1:]
+		r.info.Facts = append(r.info.Facts, Fact{"header line", strconv.FormatInt(firstNo, 10)})
+		err = r.setColumns(names, true, int(firstNo))
+	default:
+		err = r.guessXYZ()
+	}
+	if err != nil {
+		return nil, err
+	}
+	return r, nil
+}
+
+// setColumns assigns roles to the columns named by names (a header when
+// fromHeader, else --columns).
+func (r *csvReader) setColumns(names []string, fromHeader bool, line int) error {
+	r.ncols = len(names)
+	r.idCol, r.eCol, r.nCol, r.zCol, r.codeCol = -1, -1, -1, -1, -1
+	slot := map[string]*int{roleID: &r.idCol, roleE: &r.eCol, roleN: &r.nCol, roleZ: &r.zCol, roleCode: &r.codeCol}
+	cols := make([]string, len(names))
+	var saidXY []string
+	for i, name := range names {
+		role := columnRole(name)
+		key := strings.TrimSpace(name)
+		if key == "" {
+			if !fromHeader {
+				return &ParseError{Path: r.path, Column: i + 1, Err: fmt.Errorf("%w: --columns has an empty name at position %d", ErrMissingColumn, i+1)}
+			}
+			key = "col" + strconv.Itoa(i+1)
+		}
+		if p := slot[role]; p != nil {
+			if *p >= 0 {
+				if !fromHeader {
+					return &ParseError{Path: r.path, Column: i + 1, Field: role, Err: fmt.Errorf("%w: --columns names %s twice", ErrFieldCount, role)}
+				}
+				r.info.Warnings = append(r.info.Warnings, fmt.Sprintf("header column %d %q repeats column %s; kept as attribute %q", i+1, key, role, strings.ToLower(key)))
+				role = ""
+			} else {
+				*p = i
+				cols[i] = role
+				if l := strings.ToLower(key); fromHeader && (l == "x" || l == "y") {
+					saidXY = append(saidXY, l)
+				}
+				continue
+			}
+		}
+		if role == roleSkip {
+			cols[i] = roleSkip
+			continue
+		}
+		r.attrCols = append(r.attrCols, i)
+		r.attrNames = append(r.attrNames, strings.ToLower(key))
+		cols[i] = strings.ToLower(key)
+	}
+	r.info.Columns = cols
+	var missing []string
+	for _, role := range []string{roleE, roleN, roleZ} {
+		if *slot[role] < 0 {
+			missing = append(missing, role)
+		}
+	}
+	if len(missing) > 0 {
+		src := "--columns"
+		if fromHeader {
+			src = "the header"
+		}
+		return &ParseError{Path: r.path, Line: line, Field: strings.Join(missing, ","),
+			Err: fmt.Errorf("%w: %s names no %s column (found %s; accepted spellings: e/east/easting/x, n/north/northing/y, z/h/elev/elevation/height/rl)",
+				ErrMissingColumn, src, strings.Join(missing, ", "), strings.Join(names, ","))}
+	}
+	if len(saidXY) > 0 {
+		r.info.Warnings = append(r.info.Warnings, "the header names x/y columns: assumed x = easting, y = northing (some systems call the north axis x; if this file does, pass --columns)")
+	}
+	return nil
+}
+
+// guessXYZ handles a headerless file without --columns: only plain XYZ
+// (three numeric columns, optionally followed by numeric attributes) is
+// accepted, because the order of id, northing and easting in a
+// total-station file cannot be guessed safely.
+func (r *csvReader) guessXYZ() error {
+	first := r.pending[0]
+	ask := func(why string) error {
+		return &ParseError{Path: r.path, Line: int(first.line),
+			Err: fmt.Errorf("%w: no header line and no --columns, and %s; pass --columns with the file's order, e.g. --columns id,n,e,z,code or --columns id,e,n,z,code", ErrMissingColumn, why)}
+	}
+	ncols := -1
+	var prev float64
+	idLike := true
+	for k, s := range r.pending {
+		r.buf = append(r.buf[:0], s.text...)
+		r.fields = split(r.fields, r.buf, r.delim)
+		if ncols < 0 {
+			ncols = len(r.fields)
+		}
+		if len(r.fields) != ncols || ncols < 3 {
+			return ask("the rows are not plain x,y,z")
+		}
+		line := r.buf
+		for j, f := range r.fields {
+			v, ok := r.parseNum(line[f.a:f.b])
+			if !ok {
+				return ask("column " + strconv.Itoa(j+1) + " is not numeric")
+			}
+			if j == 0 {
+				if v != math.Trunc(v) || (k > 0 && v <= prev) {
+					idLike = false
+				}
+				prev = v
+			}
+		}
+	}
+	if ncols > 3 && idLike && len(r.pending) > 1 {
+		return ask("column 1 holds increasing integers, which look like point ids")
+	}
+	names := []string{"x", "y", "z"}
+	for j := 4; j <= ncols; j++ {
+		names = append(names, "col"+strconv.Itoa(j))
+	}
+	r.info.Warnings = append(r.info.Warnings, "no header line: read as plain XYZ (x = easting, y = northing, z = height)")
+	return r.setColumns(names, false, 0)
+}
+
+// detectDelim picks the separator present in every sampled line, outside
+// quotes, preferring tab, then semicolon, then comma; else runs of blanks.
+func detectDelim(lines [][]byte) byte {
+	for _, d := range []byte{'\t', ';', ','} {
+		all := true
+		for _, l := range lines {
+			if !hasUnquoted(l, d) {
+				all = false
+				break
+			}
+		}
+		if all {
+			return d
+		}
+	}
+	return 0
+}
+
+func hasUnquoted(line []byte, d byte) bool {
+	quoted := false
+	for _, c := range line {
+		switch {
+		case c == '"':
+			quoted = !quoted
+		case c == d && !quoted:
+			return true
+		}
+	}
+	return false
+}
+
+func delimName(d byte) string {
+	switch d {
+	case '\t':
+		return "tab"
+	case ';':
+		return "semicolon"
+	case ',':
+		return "comma"
+	}
+	return "blanks"
+}
+
+// split cuts line into fields at delim (0: runs of blanks), trimming blanks
+// around each field. A field in double quotes may hold the delimiter; its
+// quotes are removed in place and "" inside it becomes ". It returns dst
+// refilled.
+func split(dst []span, line []byte, delim byte) []span {
+	dst = dst[:0]
+	blank := func(c byte) bool { return c == ' ' || (c == '\t' && delim != '\t') }
+	isDelim := func(c byte) bool {
+		if delim == 0 {
+			return c == ' ' || c == '\t'
+		}
+		return c == delim
+	}
+	n := len(line)
+	i := 0
+	for {
+		for i < n && blank(line[i]) {
+			i++
+		}
+		if delim == 0 && i >= n {
+			break
+		}
+		start, end := i, i
+		if i < n && line[i] == '"' {
+			w := i
+			for i++; i < n; i++ {
+				if line[i] == '"' {
+					if i+1 < n && line[i+1] == '"' {
+						i++
+					} else {
+						i++
+						break
+					}
+				}
+				line[w] = line[i]
+				w++
+			}
+			end = w
+			for i < n && !isDelim(line[i]) {
+				i++
+			}
+		} else {
+			for i < n && !isDelim(line[i]) {
+				i++
+			}
+			end = i
+			for end > start && blank(line[end-1]) {
+				end--
+			}
+		}
+		dst = append(dst, span{start, end})
+		if i >= n {
+			break
+		}
+		i++
+	}
+	return dst
+}
+
+// splitStrings splits a copy of line into strings.
+func (r *csvReader) splitStrings(line []byte) []string {
+	r.buf = append(r.buf[:0], line...)
+	r.fields = split(r.fields, r.buf, r.delim)
+	out := make([]string, len(r.fields))
+	for i, f := range r.fields {
+		out[i] = string(r.buf[f.a:f.b])
+	}
+	return out
+}
+
+// parseNum parses a number, accepting a decimal comma where the delimiter
+// allows it. It reports false for text that is no number; a value too large
+// for float64 comes back as ±Inf with true.
+func (r *csvReader) parseNum(b []byte) (float64, bool) {
+	var tmp [64]byte
+	if r.decComma {
+		if i := bytes.IndexByte(b, ','); i >= 0 {
+			if len(b) > len(tmp) || bytes.IndexByte(b[i+1:], ',') >= 0 || bytes.IndexByte(b, '.') >= 0 {
+				return 0, false
+			}
+			n := copy(tmp[:], b)
+			tmp[i] = '.'
+			b = tmp[:n]
+		}
+	}
+	v, err := strconv.ParseFloat(string(b), 64)
+	if err != nil {
+		var ne *strconv.NumError
+		if errors.As(err, &ne) && ne.Err == strconv.ErrRange {
+			return v, true
+		}
+		return 0, false
+	}
+	return v, true
+}
+
+// physLine reads the next physical line into r.buf without its line end,
+// and strips a UTF-8 byte-order mark from the first line.
+func (r *csvReader) physLine() ([]byte, error) {
+	line, err := r.br.ReadSlice('\n')
+	r.buf = append(r.buf[:0], line...)
+	for err == bufio.ErrBufferFull {
+		if len(r.buf) > maxLine {
+			return nil, &ParseError{Path: r.path, Line: int(r.lineNo + 1), Err: fmt.Errorf("line longer than %d bytes: is this a text file?", maxLine)}
+		}
+		line, err = r.br.ReadSlice('\n')
+		r.buf = append(r.buf, line...)
+	}
+	if err == io.EOF {
+		if len(r.buf) == 0 {
+			return nil, io.EOF
+		}
+	} else if err != nil {
+		return nil, &ParseError{Path: r.path, Line: int(r.lineNo + 1), Err: err}
+	}
+	r.lineNo++
+	b := r.buf
+	if n := len(b); n > 0 && b[n-1] == '\n' {
+		b = b[:n-1]
+	}
+	if n := len(b); n > 0 && b[n-1] == '\r' {
+		b = b[:n-1]
+	}
+	if r.lineNo == 1 {
+		b = bytes.TrimPrefix(b, []byte("\xef\xbb\xbf"))
+	}
+	return b, nil
+}
+
+// dataLine returns the next physical line that is neither blank nor a
+// comment (first non-blank byte '#').
+func (r *csvReader) dataLine() ([]byte, error) {
+	for {
+		line, err := r.physLine()
+		if err != nil {
+			return nil, err
+		}
+		t := bytes.TrimLeft(line, " \t")
+		if len(t) == 0 || t[0] == '#' {
+			continue
+		}
+		return line, nil
+	}
+}
+
+// Read implements Reader.
+func (r *csvReader) Read(c *Chunk, max int) error {
+	if max <= 0 {
+		max = DefaultChunk
+	}
+	c.Reset()
+	c.ID, c.Code = nil, nil
+	if r.idCol >= 0 {
+		c.ID = c.ID[:0]
+	}
+	c.Attr = attrsFor(c.Attr, r.attrNames)
+	if r.err != nil {
+		return r.err
+	}
+	r.arena, r.strs = r.arena[:0], r.strs[:0]
+	var err error
+	for c.Len() < max {
+		var line []byte
+		var no int64
+		if len(r.pending) > 0 {
+			line, no = append(r.buf[:0], r.pending[0].text...), r.pending[0].line
+			r.pending = r.pending[1:]
+		} else {
+			line, err = r.dataLine()
+			if err != nil {
+				break
+			}
+			no = r.lineNo
+		}
+		r.row(c, line, no)
+	}
+	r.finishStrings(c)
+	if err != nil && err != io.EOF {
+		r.err = err
+		return err
+	}
+	if c.Len() > 0 {
+		return nil
+	}
+	r.err = io.EOF
+	if r.rows > 0 && 2*r.rejected > r.rows {
+		r.err = &ParseError{Path: r.path, Line: int(r.firstBad),
+			Err: fmt.Errorf("%w: %d of %d data rows rejected; first on line %d: %s", ErrTooManyRejected, r.rejected, r.rows, r.firstBad, r.firstReason)}
+	}
+	return r.err
+}
+
+// attrsFor returns dst with one empty attribute per name, reusing dst when
+// its names already match.
+func attrsFor(dst []Attr, names []string) []Attr {
+	same := len(dst) == len(names)
+	for i := 0; same && i < len(names); i++ {
+		same = dst[i].Name == names[i]
+	}
+	if same {
+		return dst
+	}
+	if len(names) == 0 {
+		return nil
+	}
+	dst = make([]Attr, len(names))
+	for i, n := range names {
+		dst[i].Name = n
+	}
+	return dst
+}
+
+// row parses one data line and appends its record to c.
+func (r *csvReader) row(c *Chunk, line []byte, no int64) {
+	r.rows++
+	r.fields = split(r.fields, line, r.delim)
+	f := r.fields
+	nf := len(f)
+	reason := ""
+	if nf > r.ncols {
+		switch {
+		case r.codeCol == r.ncols-1 && r.codeCol < nf:
+			// An unquoted code holding the delimiter: the rest of the line.
+			f[r.codeCol].b = f[nf-1].b
+			nf = r.ncols
+		default:
+			for nf > r.ncols && f[nf-1].a == f[nf-1].b {
+				nf-- // trailing empty fields from a trailing delimiter
+			}
+			if nf > r.ncols {
+				reason = fmt.Sprintf("%d fields where the columns name %d", nf, r.ncols)
+			}
+		}
+	}
+	field := func(col int) ([]byte, bool) {
+		if col < 0 || col >= nf {
+			return nil, false
+		}
+		return line[f[col].a:f[col].b], true
+	}
+	var p [3]float64
+	for k, col := range [3]int{r.eCol, r.nCol, r.zCol} {
+		if reason != "" {
+			break
+		}
+		b, ok := field(col)
+		if !ok || len(b) == 0 {
+			reason = "missing field " + r.info.Columns[col]
+			break
+		}
+		p[k], reason = r.coord(b, r.info.Columns[col])
+	}
+	var id, code []byte
+	if r.idCol >= 0 {
+		id, _ = field(r.idCol)
+		if len(id) == 0 && reason == "" {
+			reason = "missing field id"
+		}
+	}
+	if r.codeCol >= 0 {
+		code, _ = field(r.codeCol)
+	}
+	for k, col := range r.attrCols {
+		v := math.NaN()
+		if b, ok := field(col); ok && len(b) > 0 {
+			var good bool
+			if v, good = r.parseNum(b); !good && reason == "" {
+				reason = fmt.Sprintf("non-numeric %s in column %s", quoteField(b), r.attrNames[k])
+			}
+		}
+		c.Attr[k].Values = append(c.Attr[k].Values, v)
+	}
+	if reason != "" {
+		p = [3]float64{}
+		if r.rejected == 0 {
+			r.firstBad, r.firstReason = no, reason
+		}
+		r.rejected++
+	}
+	c.P = append(c.P, r3.Vec{X: p[0], Y: p[1], Z: p[2]})
+	c.Line = append(c.Line, no)
+	c.Reject = append(c.Reject, reason)
+	a := len(r.arena)
+	r.arena = append(r.arena, id...)
+	b := len(r.arena)
+	r.arena = append(r.arena, code...)
+	r.strs = append(r.strs, span{a, b}, span{b, len(r.arena)})
+}
+
+// coord parses coordinate text b of column name and converts it to metres;
+// it returns a reject reason, or "".
+func (r *csvReader) coord(b []byte, name string) (float64, string) {
+	v, ok := r.parseNum(b)
+	switch {
+	case !ok:
+		return 0, fmt.Sprintf("non-numeric %s in column %s", quoteField(b), name)
+	case math.IsNaN(v) || math.IsInf(v, 0) && bytes.ContainsAny(b, "iI"):
+		return 0, fmt.Sprintf("not finite %s in column %s", quoteField(b), name)
+	}
+	v = r.unit.ToMetres(v)
+	if !(math.Abs(v) <= MaxCoord) {
+		return 0, fmt.Sprintf("out of range %s in column %s (|v| > %g m)", quoteField(b), name, float64(MaxCoord))
+	}
+	return v, ""
+}
+
+// quoteField quotes field text for a reject reason, cut to 24 bytes.
+func quoteField(b []byte) string {
+	if len(b) > 24 {
+		return strconv.Quote(string(b[:24])) + "…"
+	}
+	return strconv.Quote(string(b))
+}
+
+// finishStrings turns the chunk's id and code bytes into strings (one
+// allocation per chunk) and checks the ids for repeats.
+func (r *csvReader) finishStrings(c *Chunk) {
+	if r.idCol < 0 && r.codeCol < 0 {
+		return
+	}
+	s := string(r.arena)
+	for i := 0; i < len(r.strs); i += 2 {
+		if r.idCol >= 0 {
+			c.ID = append(c.ID, s[r.strs[i].a:r.strs[i].b])
+		}
+		if r.codeCol >= 0 {
+			c.Code = append(c.Code, s[r.strs[i+1].a:r.strs[i+1].b])
+		}
+	}
+	for i, id := range c.ID {
+		if id == "" {
+			continue
+		}
+		if first, dup := r.ids.add(id, c.Line[i]); dup {
+			if r.dups == 0 {
+				r.dupID, r.dupLine, r.dupFirst = id, c.Line[i], first
+			}
+			r.dups++
+		}
+	}
+}
+
+// Info implements Reader. Warnings found while reading (repeated ids)
+// appear once they are found.
+func (r *csvReader) Info() Info {
+	in := r.info
+	in.Warnings = append([]string(nil), r.info.Warnings...)
+	if r.dups > 0 {
+		in.Warnings = append(in.Warnings, fmt.Sprintf("%d records repeat an earlier point id (first: %q on line %d, first seen on line %d); all were kept",
+			r.dups, r.dupID, r.dupLine, r.dupFirst))
+	}
+	if r.ids.full {
+		in.Warnings = append(in.Warnings, fmt.Sprintf("repeated-id check stopped after %d distinct ids", MaxTrackedIDs))
+	}
+	return in
+}
+
+// Close implements Reader.
+func (r *csvReader) Close() error {
+	if r.close == nil {
+		return nil
+	}
+	err := r.close()
+	r.close = nil
+	return err
+}

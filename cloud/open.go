@@ -1,0 +1,191 @@
+package cloud
+
+import (
+	"bytes"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"strings"
+	"unicode/utf8"
+
+	"gonum.org/v1/gonum/spatial/r3"
+)
+
+// sniffLen is how many leading bytes Open looks at.
+const sniffLen = 4096
+
+// Open opens the point file at path and returns a streaming reader for it.
+// The format is decided by content, from the first 4096 bytes: registered
+// formats (RegisterFormat) first, then PLY (magic line "ply"), then
+// delimited text. A file that looks binary and matches none of them gives a
+// *FormatError wrapping ErrUnknownFormat.
+func Open(path string, opt Options) (Reader, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, err
+	}
+	head := make([]byte, sniffLen)
+	n, err := io.ReadFull(f, head)
+	f.Close()
+	if err != nil && err != io.ErrUnexpectedEOF && err != io.EOF {
+		return nil, err
+	}
+	head = head[:n]
+	for _, fm := range formats {
+		if fm.Match != nil && fm.Match(head) {
+			return fm.Open(path, opt)
+		}
+	}
+	if isPLY(head) {
+		return OpenPLY(path, opt)
+	}
+	if n == 0 {
+		return nil, &FormatError{Path: path, Msg: "empty file", Err: ErrUnknownFormat}
+	}
+	if off := binaryOffset(head, n == sniffLen); off >= 0 {
+		names := []string{}
+		for _, fm := range formats {
+			names = append(names, fm.Name)
+		}
+		names = append(names, "PLY", "delimited text")
+		return nil, &FormatError{Path: path, Offset: int64(off),
+			Msg: fmt.Sprintf("binary content that is none of %s", strings.Join(names, ", ")),
+			Err: ErrUnknownFormat}
+	}
+	return OpenCSV(path, opt)
+}
+
+// binaryOffset returns the offset of the first byte that text does not
+// hold (NUL, a control character other than tab/CR/LF/FF, invalid UTF-8),
+// or -1. When cut is set, head ends mid-file and an incomplete UTF-8
+// sequence at its end is allowed.
+func binaryOffset(head []byte, cut bool) int {
+	for i := 0; i < len(head); {
+		c := head[i]
+		if c < utf8.RuneSelf {
+			if c < 0x20 && c != '\t' && c != '\n' && c != '\r' && c != '\f' || c == 0x7f {
+				return i
+			}
+			i++
+			continue
+		}
+		r, size := utf8.DecodeRune(head[i:])
+		if r == utf8.RuneError && size <= 1 {
+			if cut && !utf8.FullRune(head[i:]) {
+				return -1
+			}
+			return i
+		}
+		i += size
+	}
+	return -1
+}
+
+// Summary is what Scan learns by reading a whole file.
+type Summary struct {
+	// Info is the reader's Info after the last record, so that it includes
+	// warnings found while reading.
+	Info Info
+	// Count is the number of records read, Rejected the number of them
+	// with a reject reason.
+	Count, Rejected int64
+	// Min and Max bound the accepted points, in metres. Both are the zero
+	// vector when no point was accepted.
+	Min, Max r3.Vec
+	// DuplicateIDs counts records whose id appeared earlier in the file
+	// (0 for formats without ids). Beyond MaxTrackedIDs distinct ids the
+	// count stops growing.
+	DuplicateIDs int64
+}
+
+// Scan reads r to the end and summarises it. It does not close r.
+func Scan(r Reader) (Summary, error) {
+	var s Summary
+	var c Chunk
+	var ids idSet
+	s.Min = r3.Vec{X: math.Inf(1), Y: math.Inf(1), Z: math.Inf(1)}
+	s.Max = r3.Vec{X: math.Inf(-1), Y: math.Inf(-1), Z: math.Inf(-1)}
+	for {
+		err := r.Read(&c, 0)
+		if errors.Is(err, io.EOF) {
+			break
+		}
+		if err != nil {
+			s.Info = r.Info()
+			return s, err
+		}
+		s.Count += int64(c.Len())
+		for i, p := range c.P {
+			if c.Reject[i] != "" {
+				s.Rejected++
+				continue
+			}
+			s.Min = r3.Vec{X: math.Min(s.Min.X, p.X), Y: math.Min(s.Min.Y, p.Y), Z: math.Min(s.Min.Z, p.Z)}
+			s.Max = r3.Vec{X: math.Max(s.Max.X, p.X), Y: math.Max(s.Max.Y, p.Y), Z: math.Max(s.Max.Z, p.Z)}
+		}
+		for i, id := range c.ID {
+			if _, dup := ids.add(id, c.Line[i]); dup {
+				s.DuplicateIDs++
+			}
+		}
+	}
+	if s.Count == s.Rejected {
+		s.Min, s.Max = r3.Vec{}, r3.Vec{}
+	}
+	s.Info = r.Info()
+	return s, nil
+}
+
+// MaxTrackedIDs bounds the memory of duplicate-id detection: after this many
+// distinct ids, further ids are not checked (8 bytes of hash and 8 of line
+// per id, about 48 MiB with map overhead at 2^21).
+const MaxTrackedIDs = 1 << 21
+
+// idSet detects repeated point ids in bounded memory. It keeps a 64-bit
+// FNV-1a hash of each id with the line it was first seen on, so two
+// different ids collide with probability about n²/2⁶⁵ (3e-8 at 10^6 ids),
+// an accepted risk for a warning.
+type idSet struct {
+	first map[uint64]int64
+	full  bool
+}
+
+// add records id, seen on line, and reports the line it was first seen on
+// and whether it is a repeat.
+func (s *idSet) add(id string, line int64) (int64, bool) {
+	if s.first == nil {
+		s.first = make(map[uint64]int64)
+	}
+	h := fnv64(id)
+	if l, ok := s.first[h]; ok {
+		return l, true
+	}
+	if len(s.first) >= MaxTrackedIDs {
+		s.full = true
+		return 0, false
+	}
+	s.first[h] = line
+	return 0, false
+}
+
+// fnv64 is the 64-bit FNV-1a hash (Fowler, Noll, Vo; constants from the
+// FNV reference, also in Go's hash/fnv).
+func fnv64(s string) uint64 {
+	h := uint64(14695981039346656037)
+	for i := 0; i < len(s); i++ {
+		h ^= uint64(s[i])
+		h *= 1099511628211
+	}
+	return h
+}
+
+// isPLY reports whether head starts with the PLY magic line.
+func isPLY(head []byte) bool {
+	if !bytes.HasPrefix(head, []byte("ply")) {
+		return false
+	}
+	rest := bytes.TrimLeft(head[3:], " \t")
+	return len(rest) > 0 && (rest[0] == '\n' || rest[0] == '\r')
+}
