@@ -71,12 +71,14 @@ type PointU struct {
 }
 
 // U returns the combined standard uncertainty √(Σ C²).
-func (p *PointU) U() float64 {
+func (p *PointU) U() float64 { return math.Sqrt(p.sumSq()) }
+
+func (p *PointU) sumSq() float64 {
 	var v float64
 	for _, c := range p.C {
 		v += c * c
 	}
-	return math.Sqrt(v)
+	return v
 }
 
 // BudgetLine is one row of a budget table.

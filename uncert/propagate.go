@@ -165,9 +165,43 @@ func (s *Setup) NormalU(p, n r3.Vec) float64 {
 	if s.kind == KindPlain || s.kind == "" {
 		return math.Sqrt(s.extra2)
 	}
-	gT, gZ, gS, r := s.columns(p, n)
-	sig, _ := s.sigmaS(r, gS)
-	v := (s.varT+s.varO)*gT*gT + s.varZ*gZ*gZ + sig*sig*gS*gS + s.station.Quad(n)
+	// The same sum as Eval, arranged for the hot path (one square root for
+	// the slope distance, one division): with hn = n_E·dx + n_N·dy and
+	// sd = n·d, g_Z² = (dz·hn − n_H·h²)²/h² and g_S² = sd²/r².
+	dx, dy, dz := p.X-s.origin.X, p.Y-s.origin.Y, p.Z-s.origin.Z
+	h2 := dx*dx + dy*dy
+	r2 := h2 + dz*dz
+	gT := n.X*dy - n.Y*dx
+	hn := n.X*dx + n.Y*dy
+	sd := hn + n.Z*dz
+	if h2 == 0 || r2 == 0 {
+		e := s.Eval(p, n) // degenerate geometry: the documented worst cases
+		return e.U()
+	}
+	num := dz*hn - n.Z*h2
+	inv := 1 / (h2 * r2)
+	gZ2 := num * num * r2 * inv
+	gS2 := sd * sd * h2 * inv
+	r := math.Sqrt(r2)
+	var sig float64
+	if s.rss {
+		sig2 := s.distA*s.distA + s.distB*s.distB*r2
+		sig = math.Sqrt(sig2)
+	} else {
+		sig = s.distA + s.distB*r
+	}
+	v := (s.varT+s.varO)*gT*gT + s.varZ*gZ2 + s.station.Quad(n)
+	if s.kind == KindScanner {
+		// σ_S²·g_S² with σ_S = σ_r/cos α and cos α = |sd|/r is σ_r² unless
+		// the cap applies.
+		if gS2 < s.cosMax*s.cosMax {
+			v += sig * sig * gS2 / (s.cosMax * s.cosMax)
+		} else {
+			v += sig * sig
+		}
+	} else {
+		v += sig * sig * gS2
+	}
 	return math.Sqrt(v + s.extra2)
 }
 
