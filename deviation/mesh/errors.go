@@ -20,3 +20,6 @@ var (
 	// cannot be reached within the grid limit.
 	ErrChord = errors.New("mesh: chord tolerance not positive or not reachable")
 )
+
+// ErrPrecision means float32 storage would lose more than 0.1 mm.
+var ErrPrecision = errors.New("mesh: float32 coordinates would lose more than 0.1 mm")
