@@ -1,0 +1,377 @@
+package cloud
+
+import (
+	"errors"
+	"math"
+	"strconv"
+	"strings"
+	"testing"
+
+	"gonum.org/v1/gonum/spatial/r3"
+)
+
+// Site coordinates of the kind total stations produce (easting 5e5 m,
+// northing 5e6 m, mm decimals). The expected float64 values are
+// strconv.ParseFloat's correctly rounded results (IEEE 754, round to
+// nearest), which the reader must reproduce exactly.
+const (
+	siteE = "500123.456"
+	siteN = "5000123.789"
+	siteZ = "101.234"
+)
+
+func mustFloat(t testing.TB, s string) float64 {
+	t.Helper()
+	v, err := strconv.ParseFloat(s, 64)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return v
+}
+
+func siteVec(t testing.TB) r3.Vec {
+	return r3.Vec{X: mustFloat(t, siteE), Y: mustFloat(t, siteN), Z: mustFloat(t, siteZ)}
+}
+
+// TestCSVColumns checks header spellings, column order (northing before
+// easting), --columns, delimiters, decimal commas, BOM, CRLF, comments and
+// quoting. Each file holds the same shot P1 = (siteE, siteN, siteZ) with
+// code "SRF" so that every case must map the columns to (E, N, Z) exactly.
+func TestCSVColumns(t *testing.T) {
+	tests := []struct {
+		name     string
+		text     string
+		columns  string // Options.Columns, comma-separated
+		id, code string // want
+		warn     string // substring of a wanted warning
+		attr     string // an attribute name wanted
+	}{
+		{name: "PENZD header", text: "Point,Easting,Northing,Elevation,Code\nP1,500123.456,5000123.789,101.234,SRF\n", id: "P1", code: "SRF"},
+		{name: "PNEZD header", text: "PT,N,E,Z,DESC\nP1,5000123.789,500123.456,101.234,SRF\n", id: "P1", code: "SRF"},
+		{name: "upper case and units in header", text: "POINT_ID,NORTH (m),EAST (m),RL [m],REMARK\nP1,5000123.789,500123.456,101.234,SRF\n", id: "P1", code: "SRF"},
+		{name: "pointid height description", text: "pointid;northing;easting;height;description\nP1;5000123.789;500123.456;101.234;SRF\n", id: "P1", code: "SRF"},
+		{name: "name h remark tab", text: "name\tE\tN\tH\tremark\nP1\t500123.456\t5000123.789\t101.234\tSRF\n", id: "P1", code: "SRF"},
+		{name: "x y header warns", text: "id,x,y,z,code\nP1,500123.456,5000123.789,101.234,SRF\n", id: "P1", code: "SRF", warn: "x = easting"},
+		{name: "y before x header", text: "id,y,x,z,code\nP1,5000123.789,500123.456,101.234,SRF\n", id: "P1", code: "SRF", warn: "x = easting"},
+		{name: "extra numeric column", text: "id,e,n,z,intensity,code\nP1,500123.456,5000123.789,101.234,0.75,SRF\n", id: "P1", code: "SRF", attr: "intensity"},
+		{name: "columns PNEZD headerless", text: "P1,5000123.789,500123.456,101.234,SRF\n", columns: "id,n,e,z,code", id: "P1", code: "SRF"},
+		{name: "columns override header", text: "a,b,c,d,e\nP1,5000123.789,500123.456,101.234,SRF\n", columns: "id,n,e,z,code", id: "P1", code: "SRF", warn: "looks like a header"},
+		{name: "decimal comma semicolon", text: "Pt;E;N;Z;Code\nP1;500123,456;5000123,789;101,234;SRF\n", id: "P1", code: "SRF"},
+		{name: "decimal comma tab", text: "Pt\tE\tN\tZ\tCode\nP1\t500123,456\t5000123,789\t101,234\tSRF\n", id: "P1", code: "SRF"},
+		{name: "blank runs", text: "pt   e            n          z     code\nP1   500123.456   5000123.789   101.234   SRF\n", id: "P1", code: "SRF"},
+		{name: "BOM CRLF comments blank lines", text: "\xef\xbb\xbf# exported shots\r\n\r\nid,e,n,z,code\r\n# setup 1\r\nP1,500123.456,5000123.789,101.234,SRF\r\n\r\n", id: "P1", code: "SRF"},
+		{name: "quoted code with comma", text: "id,e,n,z,code\n\"P1\",500123.456,5000123.789,101.234,\"kerb, \"\"top\"\"\"\n", id: "P1", code: `kerb, "top"`},
+		{name: "unquoted code with comma", text: "id,e,n,z,code\nP1,500123.456,5000123.789,101.234,kerb, top\n", id: "P1", code: "kerb, top"},
+		{name: "quoted field with delimiter before coordinates", text: "code;id;e;n;z\n\"a;b\";P1;500123,456;5000123,789;101,234\n", id: "P1", code: "a;b"},
+		{name: "plain xyz headerless", text: "500123.456 5000123.789 101.234\n", warn: "plain XYZ"},
+		{name: "plain xyz with rgb", text: "500123.456,5000123.789,101.234,12,34,56\n", warn: "plain XYZ", attr: "col6"},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			var opt Options
+			if tt.columns != "" {
+				opt.Columns = strings.Split(tt.columns, ",")
+			}
+			path := writeFile(t, "shots.csv", []byte(tt.text))
+			tb, info, err := openAll(t, path, opt)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if info.Format != "csv" {
+				t.Errorf("format: got %q, want csv", info.Format)
+			}
+			if len(tb.P) != 1 {
+				t.Fatalf("got %d records, want 1 (rejects %q)", len(tb.P), tb.Reject)
+			}
+			if tb.Reject[0] != "" {
+				t.Fatalf("rejected: %s", tb.Reject[0])
+			}
+			if got, want := tb.P[0], siteVec(t); got != want {
+				t.Errorf("P: got %v, want %v", got, want)
+			}
+			if tt.id != "" && (len(tb.ID) != 1 || tb.ID[0] != tt.id) {
+				t.Errorf("ID: got %q, want %q", tb.ID, tt.id)
+			}
+			if tt.id == "" && tb.ID != nil {
+				t.Errorf("ID: got %q, want nil", tb.ID)
+			}
+			if tt.code != "" && (len(tb.Code) != 1 || tb.Code[0] != tt.code) {
+				t.Errorf("Code: got %q, want %q", tb.Code, tt.code)
+			}
+			if tt.warn != "" && !strings.Contains(strings.Join(info.Warnings, "\n"), tt.warn) {
+				t.Errorf("warnings %q lack %q", info.Warnings, tt.warn)
+			}
+			if tt.warn == "" && len(info.Warnings) > 0 {
+				t.Errorf("unexpected warnings %q", info.Warnings)
+			}
+			if tt.attr != "" {
+				if v, ok := tb.Attr[tt.attr]; !ok || len(v) != 1 || math.IsNaN(v[0]) {
+					t.Errorf("attribute %s: got %v (all %v)", tt.attr, v, tb.names)
+				}
+			}
+			if k := strings.Index(tt.text, "P1"); k >= 0 {
+				if want := int64(strings.Count(tt.text[:k], "\n") + 1); tb.Line[0] != want {
+					t.Errorf("line: got %d, want %d", tb.Line[0], want)
+				}
+			}
+		})
+	}
+}
+
+// TestCSVUnits checks unit conversion against the exact definitions:
+// international foot = 0.3048 m and US survey foot = 1200/3937 m (NIST,
+// "U.S. Survey Foot: Revised Unit Conversion Factors", Federal Register 85
+// FR 62698 (2020); NIST SP 811 appendix B).
+func TestCSVUnits(t *testing.T) {
+	tests := []struct {
+		unit string
+		in   string
+		want float64 // metres
+	}{
+		{"m", "1234.567", 1234.567},
+		{"mm", "1234567", 1234.567},
+		{"ft", "10000", 3048},                   // 10000 × 0.3048 exactly
+		{"ft", "1640419.9475", 500000.0000},     // 500 km; 1640419.9475 × 0.3048 = 499999.99999...
+		{"us-ft", "3937", 1200},                 // 3937 × 1200/3937 = 1200 exactly by definition
+		{"us-ft", "1000000", 304800.6096012192}, // 1e6 × 1200/3937 = 304800.609601219202…
+	}
+	for _, tt := range tests {
+		t.Run(tt.unit+" "+tt.in, func(t *testing.T) {
+			u, err := ParseUnit(tt.unit)
+			if err != nil {
+				t.Fatal(err)
+			}
+			path := writeFile(t, "u.csv", []byte("e,n,z\n"+tt.in+","+tt.in+","+tt.in+"\n"))
+			tb, info, err := openAll(t, path, Options{Unit: u})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if info.Unit != u {
+				t.Errorf("Info.Unit: got %v, want %v", info.Unit, u)
+			}
+			// One rounding of the product (relative 1.1e-16) on top of the
+			// ParseFloat rounding: 4 ulp is ample and still catches a wrong
+			// factor (the two feet differ by 2e-6).
+			const rel = 1e-15
+			// The 500 km case: the value in ft is rounded to 4 decimals,
+			// so it differs from 500000 m by 1.6e-6 m at most.
+			tol := rel * math.Abs(tt.want)
+			if strings.Contains(tt.in, ".9475") {
+				tol = 2e-6
+			}
+			for _, v := range []float64{tb.P[0].X, tb.P[0].Y, tb.P[0].Z} {
+				if math.Abs(v-tt.want) > tol {
+					t.Errorf("got %.10f m, want %.10f m", v, tt.want)
+				}
+			}
+		})
+	}
+	// The two feet must stay distinguishable at state-plane magnitudes:
+	// 2 ppm, 2 m at 1e6 ft (FIELD.md §7, computed).
+	if d := 1e6 * (SurveyFt.Metres - Foot.Metres); math.Abs(d-0.6096012192) > 1e-6 {
+		t.Errorf("us-ft − ft at 1e6 ft: got %v m, want 0.6096012192 m", d)
+	}
+}
+
+// TestCSVLargeCoordinates checks that site coordinates keep every digit:
+// the reader's float64 equals strconv.ParseFloat's correctly rounded value
+// (IEEE 754 round to nearest; Go spec for strconv) for eastings and
+// northings from 5e5 to 5e6 m with mm decimals, also through a decimal
+// comma.
+func TestCSVLargeCoordinates(t *testing.T) {
+	var b strings.Builder
+	b.WriteString("id;e;n;z\n")
+	var want []r3.Vec
+	for i := 0; i < 200; i++ {
+		e := 500000 + float64(i)*22500.001 + 0.123
+		n := 5000000 - float64(i)*1000.017 - 0.456
+		es, ns := strconv.FormatFloat(e, 'f', 3, 64), strconv.FormatFloat(n, 'f', 3, 64)
+		want = append(want, r3.Vec{X: mustFloat(t, es), Y: mustFloat(t, ns), Z: mustFloat(t, "99.999")})
+		if i%2 == 1 {
+			es, ns = strings.Replace(es, ".", ",", 1), strings.Replace(ns, ".", ",", 1)
+		}
+		b.WriteString("P" + strconv.Itoa(i) + ";" + es + ";" + ns + ";99.999\n")
+	}
+	tb, _, err := openAll(t, writeFile(t, "big.csv", []byte(b.String())), Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(tb.P) != len(want) {
+		t.Fatalf("got %d points, want %d", len(tb.P), len(want))
+	}
+	for i := range want {
+		if tb.P[i] != want[i] {
+			t.Errorf("row %d: got %v, want %v", i+1, tb.P[i], want[i])
+		}
+	}
+}
+
+// TestCSVRejects checks that bad rows keep their place with a reason and
+// that good rows around them are read.
+func TestCSVRejects(t *testing.T) {
+	text := "id,e,n,z,code\n" +
+		"P1,500123.456,5000123.789,101.234,SRF\n" + // line 2
+		"P2,abc,5000123.789,101.234,SRF\n" + // 3
+		"P3,500123.456,5000123.789\n" + // 4
+		"P4,500123.456,NaN,101.234,SRF\n" + // 5
+		"P5,500123.456,5000123.789,+Inf,SRF\n" + // 6
+		"P6,2e8,5000123.789,101.234,SRF\n" + // 7
+		"P7,500123.456,5000123.789,101.234,SRF\n" + // 8
+		"P8,500123.456,5000123.789,101.234,SRF\n" + // 9
+		"P9,500123.456,5000123.789,101.234,SRF\n" + // 10
+		",500123.456,5000123.789,101.234,SRF\n" + // 11
+		"P11,500123.456,5000123.789,101.234,SRF\n" + // 12
+		"P12,500123.456,5000123.789,101.234,SRF\n" + // 13
+		"P13,500123.456,5000123.789,101.234,SRF\n" + // 14
+		"P14,1e999,5000123.789,101.234,SRF\n" // 15
+	want := map[int64]string{
+		3:  `non-numeric "abc" in column e`,
+		4:  "missing field z",
+		5:  `not finite "NaN" in column n`,
+		6:  `not finite "+Inf" in column z`,
+		7:  `out of range "2e8" in column e`,
+		11: "missing field id",
+		15: `out of range "1e999" in column e`,
+	}
+	r, err := Open(writeFile(t, "bad.csv", []byte(text)), Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer r.Close()
+	tb, err := drain(t, r, 4)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(tb.P) != 14 {
+		t.Fatalf("got %d records, want 14", len(tb.P))
+	}
+	for i, line := range tb.Line {
+		w := want[line]
+		if got := tb.Reject[i]; (w == "") != (got == "") || !strings.HasPrefix(got, w) {
+			t.Errorf("line %d: reject %q, want %q", line, got, w)
+		}
+		if w != "" && tb.P[i] != (r3.Vec{}) {
+			t.Errorf("line %d: rejected point %v, want zero", line, tb.P[i])
+		}
+		if w == "" && tb.P[i] != siteVec(t) {
+			t.Errorf("line %d: got %v, want %v", line, tb.P[i], siteVec(t))
+		}
+	}
+}
+
+// TestCSVDuplicateIDs checks that repeated ids are kept and reported after
+// reading, and that Scan counts them.
+func TestCSVDuplicateIDs(t *testing.T) {
+	text := "id,e,n,z\nA,1,2,3\nB,1,2,3\nA,4,5,6\nC,1,2,3\nB,7,8,9\nA,1,1,1\n"
+	path := writeFile(t, "dup.csv", []byte(text))
+	r, err := Open(path, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer r.Close()
+	s, err := Scan(r)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if s.Count != 6 || s.Rejected != 0 || s.DuplicateIDs != 3 {
+		t.Errorf("count %d rejected %d duplicates %d, want 6 0 3", s.Count, s.Rejected, s.DuplicateIDs)
+	}
+	w := strings.Join(s.Info.Warnings, "\n")
+	for _, sub := range []string{"3 records repeat", `"A" on line 4`, "first seen on line 2", "kept"} {
+		if !strings.Contains(w, sub) {
+			t.Errorf("warnings %q lack %q", s.Info.Warnings, sub)
+		}
+	}
+	if s.Min != (r3.Vec{X: 1, Y: 1, Z: 1}) || s.Max != (r3.Vec{X: 7, Y: 8, Z: 9}) {
+		t.Errorf("bounds: got %v %v, want (1,1,1) (7,8,9)", s.Min, s.Max)
+	}
+}
+
+// TestCSVChunking checks that chunk size does not change what is read.
+func TestCSVChunking(t *testing.T) {
+	var b strings.Builder
+	b.WriteString("# comment\nid,e,n,z,code,intensity\n")
+	for i := 0; i < 1000; i++ {
+		if i%97 == 0 {
+			b.WriteString("# station change\n\n")
+		}
+		b.WriteString("P" + strconv.Itoa(i) + "," + strconv.Itoa(500000+i) + ".5," + strconv.Itoa(5000000-i) + ".25,10.125,C" + strconv.Itoa(i%7) + "," + strconv.Itoa(i%256) + "\n")
+	}
+	path := writeFile(t, "c.csv", []byte(b.String()))
+	var ref table
+	for k, max := range []int{0, 1, 7, 999, 1000, 5000} {
+		r, err := Open(path, Options{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		tb, err := drain(t, r, max)
+		r.Close()
+		if err != nil {
+			t.Fatal(err)
+		}
+		if k == 0 {
+			ref = tb
+			if len(tb.P) != 1000 || tb.Code[999] != "C5" || tb.ID[999] != "P999" || tb.Attr["intensity"][999] != 999%256 {
+				t.Fatalf("reference read wrong: %d points, last %q %q %v", len(tb.P), tb.ID[999], tb.Code[999], tb.Attr["intensity"][999])
+			}
+			continue
+		}
+		for i := range ref.P {
+			if tb.P[i] != ref.P[i] || tb.ID[i] != ref.ID[i] || tb.Code[i] != ref.Code[i] || tb.Line[i] != ref.Line[i] || tb.Attr["intensity"][i] != ref.Attr["intensity"][i] {
+				t.Fatalf("max %d, record %d differs", max, i)
+			}
+		}
+	}
+}
+
+// TestCSVErrors is the table of invalid delimited files and the error text
+// each must give: the file name, the line, and what to do.
+func TestCSVErrors(t *testing.T) {
+	half := "id,e,n,z\n1,1,2,3\n2,x,2,3\n3,y,2,3\n"
+	tests := []struct {
+		name    string
+		text    string
+		columns []string
+		is      error
+		want    []string
+	}{
+		{"headerless total station", "\n# shots\nP1,5000123.789,500123.456,101.234,SRF\n", nil, ErrMissingColumn,
+			[]string{"bad.csv:3:", "--columns", "id,n,e,z,code"}},
+		{"headerless numeric ids", "1,5000123.789,500123.456,101.234\n2,5000124.789,500124.456,101.234\n", nil, ErrMissingColumn,
+			[]string{"bad.csv:1:", "point ids", "--columns"}},
+		{"header without z", "id,e,n,code\nP1,1,2,SRF\n", nil, ErrMissingColumn,
+			[]string{"bad.csv:1:", "no z column", "--columns"}},
+		{"header without coordinates", "a,b,c\nd,e,f\n", nil, ErrMissingColumn,
+			[]string{"bad.csv:1:", "no e, n, z column"}},
+		{"columns without e", "P1,1,2,3\n", []string{"id", "n", "z", "code"}, ErrMissingColumn,
+			[]string{"bad.csv", "--columns names no e column"}},
+		{"columns twice", "P1,1,2,3\n", []string{"id", "e", "e", "z"}, ErrFieldCount,
+			[]string{"bad.csv", "column 3 (e)", "twice"}},
+		{"more than half rejected", half, nil, ErrTooManyRejected,
+			[]string{"bad.csv:3:", "2 of 3 data rows rejected", `non-numeric "x" in column e`, "delimiter"}},
+		{"wrong decimal comma", "id,e,n,z\nP1,500123,456,5000123,789,101,234\nP2,500123,456,5000123,789,101,234\n", nil, ErrTooManyRejected,
+			[]string{"bad.csv:2:", "2 of 2 data rows rejected", "fields where the columns name 4"}},
+		{"only comments", "# nothing\n\n", nil, nil, []string{"bad.csv", "no data lines"}},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			path := writeFile(t, "bad.csv", []byte(tt.text))
+			_, _, err := openAll(t, path, Options{Columns: tt.columns})
+			if err == nil {
+				t.Fatal("no error")
+			}
+			var pe *ParseError
+			if !errors.As(err, &pe) {
+				t.Fatalf("error %T %q is no *ParseError", err, err)
+			}
+			if tt.is != nil && !errors.Is(err, tt.is) {
+				t.Errorf("error %q does not wrap %v", err, tt.is)
+			}
+			for _, s := range tt.want {
+				if !strings.Contains(err.Error(), s) {
+					t.Errorf("error %q lacks %q", err, s)
+				}
+			}
+		})
+	}
+}
