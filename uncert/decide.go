@@ -157,7 +157,9 @@ func Capable(u, limit float64, r Rule) bool {
 //	p_c = Φ((hi − d)/u) − Φ((lo − d)/u).
 //
 // With u = 0 it is 1 inside [lo, hi] and 0 outside. The difference is taken
-// in the tail that keeps precision (survival functions above the mean).
+// in the lower tail, where gonum's CDF (an erfc) keeps relative precision:
+// above the mean by symmetry, Φ(−a) − Φ(−b). (distuv.Normal.Survival is
+// 1 − erf and loses the far tail.)
 func ConformanceProb(d, u, lo, hi float64) float64 {
 	if u == 0 {
 		if d >= lo && d <= hi {
@@ -168,7 +170,7 @@ func ConformanceProb(d, u, lo, hi float64) float64 {
 	a, b := (lo-d)/u, (hi-d)/u
 	n := distuv.UnitNormal
 	if a > 0 {
-		return n.Survival(a) - n.Survival(b)
+		return n.CDF(-a) - n.CDF(-b)
 	}
 	return n.CDF(b) - n.CDF(a)
 }

@@ -1,0 +1,96 @@
+package uncert
+
+import (
+	"math"
+	"math/rand/v2"
+	"testing"
+
+	"gonum.org/v1/gonum/spatial/r3"
+)
+
+// TestComponentCommon: setup and orientation errors are common to all points
+// of a station, so averaging does not reduce them (FIELD.md §2, budget note
+// [practice]); the per-point noise terms are not.
+func TestComponentCommon(t *testing.T) {
+	common := map[Component]bool{Orientation: true, StationSetup: true, Control: true, Design: true}
+	for c := Component(0); c < NumComponents; c++ {
+		if c.Common() != common[c] {
+			t.Errorf("%v: Common() = %v", c, c.Common())
+		}
+		if c.String() == "unknown" || c.String() == "" {
+			t.Errorf("component %d has no name", c)
+		}
+	}
+	if NumComponents.String() != "unknown" {
+		t.Error("out-of-range component must read unknown")
+	}
+}
+
+// TestBudgetStats checks the accumulator on Eval output: the RMS budget's
+// lines add in quadrature to its combined value (mean u² = Σ mean c²), which
+// equals the RMS of the points' NormalU; Mean and Max combined values are
+// the mean and max of NormalU; merged halves equal a single pass.
+func TestBudgetStats(t *testing.T) {
+	m := bigModel()
+	m.ControlMM, m.SurfaceMM = 2, 1
+	s := mustSetup(t, m)
+	rng := rand.New(rand.NewPCG(11, 12))
+	var all, a, b BudgetStats
+	var sumU2, sumU, maxU float64
+	const n = 300
+	for i := 0; i < n; i++ {
+		p := FromPolar(s.Origin(), Polar{T: rng.Float64() * 6, Z: deg(60 + 60*rng.Float64()), S: 2 + 80*rng.Float64()})
+		nv := r3.Unit(r3.Vec{X: rng.NormFloat64(), Y: rng.NormFloat64(), Z: 2})
+		e := s.Eval(p, nv)
+		e.C[Fit] = FitComponent([]float64{1, p.X - s.Origin().X}, []float64{1e-6, 0, 0, 1e-9})
+		all.Add(&e)
+		if i%2 == 0 {
+			a.Add(&e)
+		} else {
+			b.Add(&e)
+		}
+		u := e.U()
+		sumU2 += u * u
+		sumU += u
+		maxU = math.Max(maxU, u)
+	}
+	a.Merge(&b)
+	rms := all.RMS()
+	var q float64
+	for _, l := range rms.Lines {
+		q += l.MM * l.MM
+		if l.Common != l.Component.Common() || l.Name != l.Component.String() {
+			t.Errorf("line %+v inconsistent", l)
+		}
+	}
+	near(t, "RMS lines in quadrature", math.Sqrt(q), rms.CombinedMM, 1e-9)
+	near(t, "RMS combined", rms.CombinedMM, math.Sqrt(sumU2/n)/mm, 1e-9)
+	near(t, "Mean combined", all.Mean().CombinedMM, sumU/n/mm, 1e-9)
+	near(t, "Max combined", all.Max().CombinedMM, maxU/mm, 1e-12)
+	if len(rms.Lines) != 7 { // angles, orientation, distance, station, control, surface, fit
+		t.Errorf("got %d lines, want 7 (zero components omitted): %+v", len(rms.Lines), rms.Lines)
+	}
+	for _, l := range all.Max().Lines {
+		if l.Component == Control && l.MM != 2 {
+			t.Errorf("control max: got %g mm, want 2", l.MM)
+		}
+	}
+	if got, want := a.RMS(), rms; got.CombinedMM != want.CombinedMM || len(got.Lines) != len(want.Lines) || a.N() != n {
+		t.Errorf("merge: got %+v, want %+v", got, want)
+	}
+	var empty BudgetStats
+	if bd := empty.RMS(); bd.Points != 0 || bd.Lines != nil || bd.CombinedMM != 0 {
+		t.Errorf("empty budget: %+v", bd)
+	}
+}
+
+func BenchmarkBudgetAdd(b *testing.B) {
+	s := mustSetup(b, bigModel())
+	p := FromPolar(s.Origin(), Polar{T: 1, Z: deg(80), S: 30})
+	e := s.Eval(p, r3.Vec{Z: 1})
+	var st BudgetStats
+	b.ReportAllocs()
+	for i := 0; i < b.N; i++ {
+		st.Add(&e)
+	}
+}
