@@ -80,6 +80,9 @@ func DecodeModel(n *yaml.Node) (Model, error) {
 	if fe := m.validate(); fe != nil {
 		return Model{}, &LineError{Line: lineOf(n, fe.path), Msg: fe.Error()}
 	}
+	if len(m.Instrument.Stations) == 0 {
+		m.Instrument.Stations = nil // `stations: []` reads as absent
+	}
 	return m, nil
 }
 
@@ -158,31 +161,32 @@ func decodeError(n *yaml.Node, err error) error {
 	return &LineError{Line: n.Line, Msg: "uncertainty: " + err.Error()}
 }
 
-// lineOf returns the line of the node at path below the mapping n: the
-// value's line when the whole path exists, else the line of the deepest
-// node found (so a missing key points at its parent).
+// lineOf returns the line of the key (or list element) at path below the
+// mapping n when the whole path exists, else the line of the deepest node
+// found (so a missing key points at its parent).
 func lineOf(n *yaml.Node, path []string) int {
 	line := n.Line
 	for _, p := range path {
 		var next *yaml.Node
+		at := 0
 		switch n.Kind {
 		case yaml.MappingNode:
 			for i := 0; i+1 < len(n.Content); i += 2 {
 				if n.Content[i].Value == p {
-					next = n.Content[i+1]
+					next, at = n.Content[i+1], n.Content[i].Line
 					break
 				}
 			}
 		case yaml.SequenceNode:
 			if i, err := strconv.Atoi(p); err == nil && i >= 0 && i < len(n.Content) {
 				next = n.Content[i]
+				at = next.Line
 			}
 		}
 		if next == nil {
 			return line
 		}
-		n = next
-		line = n.Line
+		n, line = next, at
 	}
 	return line
 }
