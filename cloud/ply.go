@@ -396,6 +396,9 @@ func (r *plyReader) skipElement(e *plyElement) error {
 		}
 		return nil
 	}
+	if len(e.props) == 0 {
+		return nil // records of no properties take no bytes
+	}
 	for i := int64(0); i < e.count; i++ {
 		for j := range e.props {
 			if _, err := r.value(e, i, &e.props[j]); err != nil {
