@@ -8,6 +8,20 @@ import (
 )
 
 // Names of the decision rules.
+//
+// References (markers as in FIELD.md):
+//   - ISO 14253-1:2017, GPS — Inspection by measurement of workpieces and
+//     measuring equipment — Part 1: Decision rules for verifying conformity
+//     or nonconformity with specifications (title and scope confirmed; the
+//     rule details from memory, as FIELD.md §2 notes).
+//   - ILAC G8:09/2019, Guidelines on Decision Rules and Statements of
+//     Conformity: §4.2.1 simple acceptance (w = 0, AL = TL) and §4.2.2
+//     guard band (AL = TL − w) (confirmed, fliphtml5 copy of p. 9).
+//   - JCGM 106:2012 (ISO/IEC Guide 98-4), Evaluation of measurement data —
+//     The role of measurement uncertainty in conformity assessment: presents
+//     simple acceptance and guarded acceptance (confirmed, eurachem.org note
+//     on ILAC G8:2019); the clause number §8.2 for simple acceptance and
+//     the p_c formula of §7 are from memory.
 const (
 	// RuleGuarded is guarded acceptance after ISO 14253-1: conformity is
 	// proven only inside the tolerance zone shrunk by k·u, nonconformity
@@ -276,7 +290,9 @@ func (c *ZoneCounts) Share(z Zone) float64 {
 // Note the asymmetry at the cap: a point merely not proven within MaxAbs
 // blocks a conforming verdict but does not prove nonconformity.
 // Under simple acceptance no point is inconclusive, so neither is the patch
-// (except an empty one).
+// (except an empty one). NOT CAPABLE is not a zone: report it beside the
+// verdict when NotCapable > 0 (those points can never be proven
+// conforming with this survey).
 func (c *ZoneCounts) Verdict(cr *Criterion) Zone {
 	n := c.Total()
 	if n == 0 {

@@ -73,7 +73,9 @@ type Instrument struct {
 
 	// AngleArcsec is the standard deviation of one measured angle (both
 	// faces, as ISO 17123-3 states it), for the horizontal direction and
-	// the zenith / vertical angle. Total station and scanner.
+	// the zenith / vertical angle. Total station and scanner. (A scanner's
+	// vertical angle may be an elevation e = 90° − z: its error enters the
+	// Jacobian with the same magnitude, so the model is the same.)
 	AngleArcsec float64 `yaml:"angle_arcsec,omitempty"`
 	// HzArcsec and ZenithArcsec override AngleArcsec for the horizontal
 	// direction and the zenith angle when non-zero.

@@ -262,25 +262,36 @@ func (s *Setup) Cov(p r3.Vec) Sym3 {
 // g = ∂d/∂θ (length p) is the deviation's gradient with respect to the fit
 // parameters at that point and cov is their p×p covariance, row-major
 // (JCGM 100:2008 §5.2.2, correlated inputs). Only the upper triangle of cov
-// is read. A tiny negative quadratic form from rounding gives 0. It does
-// not allocate; it panics if len(cov) != len(g)².
+// is read. Combine it with the measurement as
+// math.Hypot(s.NormalU(pt, n), FitComponent(g, cov)), or store it in
+// PointU.C[Fit] for a budget.
+//
+// A quadratic form below zero by no more than rounding (|q| ≤ 1e-12 of the
+// sum of the absolute terms) gives 0; a clearly negative one (cov not
+// positive semi-definite) gives NaN, which Decide treats as inconclusive.
+// It does not allocate; it panics if len(cov) != len(g)².
 func FitComponent(g []float64, cov []float64) float64 {
 	p := len(g)
 	if len(cov) != p*p {
 		panic("uncert: FitComponent: len(cov) != len(g)²")
 	}
-	var q float64
+	var q, qa float64
 	for i := 0; i < p; i++ {
 		row := cov[i*p : (i+1)*p]
-		q += g[i] * g[i] * row[i]
-		var off float64
+		t := g[i] * g[i] * row[i]
+		q += t
+		qa += math.Abs(t)
 		for j := i + 1; j < p; j++ {
-			off += row[j] * g[j]
+			t := 2 * g[i] * row[j] * g[j]
+			q += t
+			qa += math.Abs(t)
 		}
-		q += 2 * g[i] * off
 	}
-	if q < 0 {
+	switch {
+	case q >= 0:
+		return math.Sqrt(q)
+	case q >= -1e-12*qa:
 		return 0
 	}
-	return math.Sqrt(q)
+	return math.NaN()
 }

@@ -271,6 +271,16 @@ func TestArcsecConversions(t *testing.T) {
 	m.Instrument.DistanceCombine = CombineRSS
 	s = mustSetup(t, m)
 	near(t, "rss at 100 m", s.NormalU(p, r3.Vec{Y: 1})/mm, math.Hypot(1, 0.15), tolExact)
+	// Reflectorless on concrete, 2 mm + 2 ppm [practice] at 50 m: 2.1 mm.
+	m.Instrument.DistanceMM, m.Instrument.DistancePPM, m.Instrument.DistanceCombine = 2, 2, ""
+	s = mustSetup(t, m)
+	p = FromPolar(s.Origin(), Polar{Z: deg(90), S: 50})
+	near(t, "2 mm + 2 ppm at 50 m", s.NormalU(p, r3.Vec{Y: 1})/mm, 2.1, tolExact)
+	// Centring 0.3–1 mm [practice] acts horizontally only, whatever the range.
+	m.Instrument.DistanceMM, m.Instrument.DistancePPM, m.Instrument.CentringMM = 0, 0, 1
+	s = mustSetup(t, m)
+	near(t, "centring E", s.NormalU(p, r3.Vec{X: 1})/mm, 1, tolExact)
+	near(t, "centring H", s.NormalU(p, r3.Vec{Z: 1})/mm, 0, tolExact)
 }
 
 // TestScannerIncidence checks the incidence model σ_r/cos α (FIELD.md §3.4
@@ -390,6 +400,14 @@ func TestFitComponent(t *testing.T) {
 	near(t, "unit vector", FitComponent([]float64{0, 1}, cov), math.Sqrt(cov[3]), tolExact)
 	if got := FitComponent(nil, nil); got != 0 {
 		t.Errorf("empty: got %v, want 0", got)
+	}
+	// Not positive semi-definite: [[1, 2], [2, 1]] along (1, −1) is −2.
+	if got := FitComponent([]float64{1, -1}, []float64{1, 2, 2, 1}); !math.IsNaN(got) {
+		t.Errorf("indefinite covariance: got %v, want NaN", got)
+	}
+	// Singular but valid: [[1, 1], [1, 1]] along (1, −1) is exactly 0.
+	if got := FitComponent([]float64{1, -1}, []float64{1, 1, 1, 1}); got != 0 {
+		t.Errorf("singular covariance: got %v, want 0", got)
 	}
 	defer func() {
 		if recover() == nil {
