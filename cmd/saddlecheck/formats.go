@@ -1,0 +1,8 @@
+package main
+
+// Formats and mesh kinds register themselves with the packages that use
+// them (cloud.RegisterFormat, deviation.RegisterMeshLoader).
+import (
+	_ "saddlecheck/cloud/las"
+	_ "saddlecheck/deviation/mesh"
+)
