@@ -203,8 +203,8 @@ var _ Surface = (*BilinearPatch)(nil)
 // metres (≥ 0). It returns ErrCoplanar for coplanar corners: build a
 // PlanePatch then.
 func NewBilinearPatch(c [4]r3.Vec, up r3.Vec, marginM float64) (*BilinearPatch, error) {
-	if !(marginM >= 0) || math.IsInf(marginM, 0) {
-		return nil, fmt.Errorf("margin %g m: must be finite and >= 0", marginM)
+	if err := checkMargin(marginM); err != nil {
+		return nil, err
 	}
 	f, err := newBilinearFrame(c, up)
 	if err != nil {

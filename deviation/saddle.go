@@ -333,10 +333,16 @@ func (s *Saddle) normalLocal(x, y float64) r3.Vec {
 // closest point and Normal the unit normal there, both in the site frame.
 // Inside is always true. Project does not allocate.
 func (s *Saddle) Project(p r3.Vec) Projection {
+	pr, _ := s.project(p)
+	return pr
+}
+
+// project is Project that also returns the foot in local coordinates.
+func (s *Saddle) project(p r3.Vec) (Projection, r3.Vec) {
 	foot, d, gn := s.closest(s.ToLocal(p))
 	inv := 1 / gn
 	n := r3.Vec{X: -2 * s.K1 * foot.X * inv, Y: -2 * s.K2 * foot.Y * inv, Z: inv}
-	return Projection{D: d, Foot: s.ToSite(foot), Normal: s.dirToSite(n), Inside: true}
+	return Projection{D: d, Foot: s.ToSite(foot), Normal: s.dirToSite(n), Inside: true}, foot
 }
 
 // Height returns z = K1·x² + K2·y² at local (x, y).

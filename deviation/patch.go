@@ -1,0 +1,139 @@
+package deviation
+
+import (
+	"errors"
+	"fmt"
+	"math"
+
+	"gonum.org/v1/gonum/spatial/r3"
+)
+
+// DefaultMarginM is the containment margin, in metres, used when a design
+// file gives no `margin_m`: a point whose foot lies up to 5 cm beyond a
+// patch edge still belongs to the patch, so that edge shots taken on the
+// arris are not lost to rounding of the corner coordinates (common
+// practice).
+const DefaultMarginM = 0.05
+
+// quad is a quadrilateral in a plane (2-D coordinates), the plan extent of
+// a patch.
+type quad [4][2]float64
+
+// area returns the signed area (shoelace formula).
+func (q *quad) area() float64 {
+	var s float64
+	for i := range q {
+		j := (i + 1) % 4
+		s += q[i][0]*q[j][1] - q[j][0]*q[i][1]
+	}
+	return s / 2
+}
+
+// contains reports whether (x, y) lies inside q (even-odd rule, so a
+// non-convex or reversed quadrilateral works too) or within margin of one
+// of its edges.
+func (q *quad) contains(x, y, margin float64) bool {
+	in := false
+	for i := range q {
+		j := (i + 3) % 4
+		xi, yi, xj, yj := q[i][0], q[i][1], q[j][0], q[j][1]
+		if (yi > y) != (yj > y) && x < (xj-xi)*(y-yi)/(yj-yi)+xi {
+			in = !in
+		}
+	}
+	if in || margin <= 0 {
+		return in
+	}
+	m2 := margin * margin
+	for i := range q {
+		j := (i + 1) % 4
+		if segDist2(x, y, q[i][0], q[i][1], q[j][0], q[j][1]) <= m2 {
+			return true
+		}
+	}
+	return false
+}
+
+// segDist2 is the squared distance from (x, y) to the segment (ax,ay)–(bx,by).
+func segDist2(x, y, ax, ay, bx, by float64) float64 {
+	dx, dy := bx-ax, by-ay
+	t := 0.0
+	if l2 := dx*dx + dy*dy; l2 > 0 {
+		t = math.Max(0, math.Min(1, ((x-ax)*dx+(y-ay)*dy)/l2))
+	}
+	ex, ey := x-ax-t*dx, y-ay-t*dy
+	return ex*ex + ey*ey
+}
+
+// bilinear2 maps (u, v) ∈ [0,1]² onto q bilinearly, q[0] at (0,0), q[1] at
+// (1,0), q[2] at (1,1), q[3] at (0,1).
+func (q *quad) bilinear2(u, v float64) (x, y float64) {
+	w0, w1, w2, w3 := (1-u)*(1-v), u*(1-v), u*v, (1-u)*v
+	return w0*q[0][0] + w1*q[1][0] + w2*q[2][0] + w3*q[3][0],
+		w0*q[0][1] + w1*q[1][1] + w2*q[2][1] + w3*q[3][1]
+}
+
+// ErrExtent reports patch corners whose plan extent is degenerate (zero
+// area).
+var ErrExtent = errors.New("patch extent has no area")
+
+// checkMargin validates a containment margin.
+func checkMargin(m float64) error {
+	if !(m >= 0) || math.IsInf(m, 0) {
+		return fmt.Errorf("margin %g m: must be finite and >= 0", m)
+	}
+	return nil
+}
+
+// SaddlePatch is an analytic saddle bounded by a plan extent: the
+// quadrilateral of its corners projected into the local x–y plane of the
+// saddle. A point belongs to the patch where the local (x, y) of its foot
+// lies inside that quadrilateral or within MarginM of its edges (the
+// margin is measured in plan, in the local x–y plane).
+type SaddlePatch struct {
+	Saddle  Saddle
+	MarginM float64
+	corners [4]r3.Vec
+	extent  quad
+}
+
+var _ Surface = (*SaddlePatch)(nil)
+
+// NewSaddlePatch returns the patch of s bounded by the corners c (site
+// frame, in order around the edge; they need not lie on s, only their plan
+// position counts). It validates s.
+func NewSaddlePatch(s Saddle, c [4]r3.Vec, marginM float64) (*SaddlePatch, error) {
+	if err := s.Validate(); err != nil {
+		return nil, err
+	}
+	if err := checkMargin(marginM); err != nil {
+		return nil, err
+	}
+	p := &SaddlePatch{Saddle: s, MarginM: marginM, corners: c}
+	for i, ci := range c {
+		q := s.ToLocal(ci)
+		p.extent[i] = [2]float64{q.X, q.Y}
+	}
+	if a := p.extent.area(); !(math.Abs(a) > 0) {
+		return nil, fmt.Errorf("saddle patch: %w", ErrExtent)
+	}
+	return p, nil
+}
+
+// Corners returns the four corners in the order given.
+func (p *SaddlePatch) Corners() [4]r3.Vec { return p.corners }
+
+// Param maps (u, v) ∈ [0,1]² bilinearly onto the plan extent and lifts
+// the point onto the saddle (site frame).
+func (p *SaddlePatch) Param(u, v float64) r3.Vec {
+	x, y := p.extent.bilinear2(u, v)
+	return p.Saddle.ToSite(r3.Vec{X: x, Y: y, Z: p.Saddle.Height(x, y)})
+}
+
+// Project projects x onto the saddle and reports whether the foot lies in
+// the plan extent (with the margin). It does not allocate.
+func (p *SaddlePatch) Project(x r3.Vec) Projection {
+	pr, foot := p.Saddle.project(x)
+	pr.Inside = p.extent.contains(foot.X, foot.Y, p.MarginM)
+	return pr
+}
