@@ -162,14 +162,24 @@ func RANSAC[H any](m SampleModel[H], pts []r3.Vec, s *RANSACSettings) (*RANSACRe
 	}
 	T2 := T * T
 	dist := make([]float64, len(sub))
-	cost := func(h H) (c float64, w int) {
-		m.Distances(dist, h, sub)
-		for _, e := range dist {
-			if e < T {
-				c += e * e
-				w++
-			} else {
-				c += T2
+	// cost is the MSAC cost on the subsample, scored in chunks so that a
+	// hypothesis already worse than bound is abandoned early (its cost is
+	// then only a lower bound, ≥ bound).
+	cost := func(h H, bound float64) (c float64, w int) {
+		const chunk = 256
+		for lo := 0; lo < len(sub); lo += chunk {
+			hi := min(lo+chunk, len(sub))
+			m.Distances(dist[lo:hi], h, sub[lo:hi])
+			for _, e := range dist[lo:hi] {
+				if e < T {
+					c += e * e
+					w++
+				} else {
+					c += T2
+				}
+			}
+			if c >= bound {
+				return c, w
 			}
 		}
 		return c, w
@@ -202,7 +212,7 @@ func RANSAC[H any](m SampleModel[H], pts []r3.Vec, s *RANSACSettings) (*RANSACRe
 		if !ok {
 			continue
 		}
-		c, w := cost(h)
+		c, w := cost(h, bestCost)
 		if c >= bestCost {
 			continue
 		}
@@ -217,7 +227,7 @@ func RANSAC[H any](m SampleModel[H], pts []r3.Vec, s *RANSACSettings) (*RANSACRe
 			if !ok {
 				break
 			}
-			c2, w2 := cost(h2)
+			c2, w2 := cost(h2, bestCost)
 			if c2 >= bestCost {
 				break
 			}
