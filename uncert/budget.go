@@ -46,6 +46,10 @@ func (c Component) String() string {
 	return componentNames[c]
 }
 
+// MarshalText returns the report name, so that components read as words in
+// JSON.
+func (c Component) MarshalText() ([]byte, error) { return []byte(c.String()), nil }
+
 // Common reports whether the component is common to all points of a setup
 // (correlated between them: averaging many points does not reduce it)
 // rather than independent per point (FIELD.md §2, budget note).
@@ -83,23 +87,23 @@ func (p *PointU) sumSq() float64 {
 
 // BudgetLine is one row of a budget table.
 type BudgetLine struct {
-	Component Component
-	Name      string
+	Component Component `json:"component"`
+	Name      string    `json:"name"`
 	// MM is the value in millimetres (the statistic the Budget was made with).
-	MM float64
+	MM float64 `json:"mm"`
 	// Common is Component.Common.
-	Common bool
+	Common bool `json:"common"`
 }
 
 // Budget is an uncertainty budget for a report table: one line per
 // non-zero component and the combined standard uncertainty, mm.
 type Budget struct {
 	// Statistic says what MM holds: "rms", "mean" or "max" over the points.
-	Statistic  string
-	Lines      []BudgetLine
-	CombinedMM float64
+	Statistic  string       `json:"statistic"`
+	Lines      []BudgetLine `json:"lines"`
+	CombinedMM float64      `json:"combined_mm"`
 	// Points is the number of points summarised.
-	Points int64
+	Points int64 `json:"points"`
 }
 
 // BudgetStats accumulates PointU values over a stream of points. The zero

@@ -1,6 +1,7 @@
 package uncert
 
 import (
+	"encoding/json"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -98,5 +99,17 @@ func BenchmarkBudgetAdd(b *testing.B) {
 	b.ReportAllocs()
 	for i := 0; i < b.N; i++ {
 		st.Add(&e)
+	}
+}
+
+// TestBudgetJSON: components and zones read as words in a JSON report.
+func TestBudgetJSON(t *testing.T) {
+	b, err := json.Marshal(Budget{Statistic: "rms", Lines: []BudgetLine{{Component: Control, Name: Control.String(), MM: 2, Common: true}}, CombinedMM: 2, Points: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := `{"statistic":"rms","lines":[{"component":"control / registration","name":"control / registration","mm":2,"common":true}],"combined_mm":2,"points":1}`
+	if string(b) != want {
+		t.Errorf("got %s\nwant %s", b, want)
 	}
 }

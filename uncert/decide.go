@@ -47,6 +47,23 @@ type Rule struct {
 	K float64
 }
 
+// NewRule returns the rule with the given name (RuleGuarded, RuleSimple, or
+// "" for guarded) and coverage factor (0 for DefaultK), for command-line
+// flags. It rejects an unknown name and a k that is negative, not finite,
+// or above 10 (a coverage factor is conventionally 1–3; larger values are
+// taken for a unit mistake).
+func NewRule(name string, k float64) (Rule, error) {
+	switch name {
+	case "", RuleGuarded, RuleSimple:
+	default:
+		return Rule{}, fmt.Errorf("uncert: unknown decision rule %q (want %s or %s)", name, RuleGuarded, RuleSimple)
+	}
+	if !(k >= 0 && k <= 10) {
+		return Rule{}, fmt.Errorf("uncert: coverage factor k = %v outside [0, 10]", k)
+	}
+	return Rule{Name: name, K: k}.norm(), nil
+}
+
 func (r Rule) norm() Rule {
 	if r.Name == "" {
 		r.Name = RuleGuarded
@@ -113,6 +130,10 @@ func (z Zone) String() string {
 	}
 	return fmt.Sprintf("Zone(%d)", int8(z))
 }
+
+// MarshalText returns the report wording, so that zones read as words in
+// JSON.
+func (z Zone) MarshalText() ([]byte, error) { return []byte(z.String()), nil }
 
 // Decide classifies deviation d with standard uncertainty u against the
 // symmetric tolerance ±limit under rule r (any consistent unit):

@@ -252,6 +252,40 @@ func TestVerdict(t *testing.T) {
 	}
 }
 
+func TestNewRuleAndNotCapable(t *testing.T) {
+	for _, c := range []struct {
+		name string
+		k    float64
+		want Rule
+		ok   bool
+	}{
+		{"", 0, Rule{Name: RuleGuarded, K: 2}, true},
+		{RuleSimple, 0, Rule{Name: RuleSimple, K: 2}, true},
+		{RuleGuarded, 3, Rule{Name: RuleGuarded, K: 3}, true},
+		{"lenient", 2, Rule{}, false},
+		{RuleGuarded, -1, Rule{}, false},
+		{RuleGuarded, math.NaN(), Rule{}, false},
+		{RuleGuarded, 95, Rule{}, false},
+	} {
+		got, err := NewRule(c.name, c.k)
+		if (err == nil) != c.ok || got != c.want {
+			t.Errorf("NewRule(%q, %v): got %+v, %v", c.name, c.k, got, err)
+		}
+	}
+	cr := Criterion{Limit: 10, Rule: guarded2}
+	var zc ZoneCounts
+	zc.AddPoint(&cr, 0, 5)   // 2·2·5 = 20 ≥ 20: not capable, and conforms only at d = 0
+	zc.AddPoint(&cr, 0, 4.9) // capable
+	zc.AddPoint(&cr, 40, 6)  // not capable, yet proven nonconforming
+	if zc.NotCapable != 2 || zc.Conforming != 2 || zc.Nonconforming != 1 {
+		t.Errorf("counts %+v", zc)
+	}
+	b, _ := Nonconforming.MarshalText()
+	if string(b) != "DOES NOT CONFORM" {
+		t.Errorf("MarshalText: %q", b)
+	}
+}
+
 func TestZoneCountsMerge(t *testing.T) {
 	cr := Criterion{Limit: 10, MaxAbs: 12, Rule: guarded2}
 	ds := []float64{1, 9, 11, 15, -3, -30, 10}
