@@ -133,6 +133,7 @@ func TestDecodeErrors(t *testing.T) {
 		{"rule", "instrument: {kind: plain}\ndecision:\n  rule: lenient\n", 3, `unknown rule "lenient"`},
 		{"min share", "instrument: {kind: plain}\ndecision:\n  min_share: 1.5\n", 3, "min_share: must lie in (0, 1]"},
 		{"control", "instrument: {kind: plain}\ncontrol_mm: -3\n", 2, "control_mm: must be"},
+		{"k", "instrument: {kind: plain}\ndecision: {k: 95}\n", 2, "k: must lie in [0, 10]"},
 	} {
 		t.Run(c.name, func(t *testing.T) {
 			_, err := DecodeModel(section(t, []byte(c.src)))

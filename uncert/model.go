@@ -136,7 +136,7 @@ type Station struct {
 type DecisionSpec struct {
 	// Rule is RuleGuarded or RuleSimple; empty means RuleGuarded.
 	Rule string `yaml:"rule,omitempty"`
-	// K is the coverage factor; zero means 2.
+	// K is the coverage factor, at most 10 (see NewRule); zero means 2.
 	K float64 `yaml:"k,omitempty"`
 	// MinShare is the share of points that must be proven conforming for a
 	// patch to conform, in (0, 1]; zero means 1 (every point).
@@ -269,11 +269,11 @@ func (m *Model) validate() *fieldError {
 	default:
 		return bad(fmt.Sprintf("unknown rule %q (want %s or %s)", d.Rule, RuleGuarded, RuleSimple), "decision", "rule")
 	}
-	if !(d.K >= 0) || math.IsInf(d.K, 1) {
-		return bad(fmt.Sprintf("must be a finite number ≥ 0, got %v", d.K), "decision", "k")
+	if !(d.K >= 0 && d.K <= 10) {
+		return bad(fmt.Sprintf("must lie in [0, 10] (0 means 2), got %v", d.K), "decision", "k")
 	}
 	if !(d.MinShare >= 0 && d.MinShare <= 1) {
-		return bad(fmt.Sprintf("must lie in (0, 1], got %v", d.MinShare), "decision", "min_share")
+		return bad(fmt.Sprintf("must lie in (0, 1] (0 means 1), got %v", d.MinShare), "decision", "min_share")
 	}
 	if !(d.MaxAbsMM >= 0) || math.IsInf(d.MaxAbsMM, 1) {
 		return bad(fmt.Sprintf("must be a finite number ≥ 0, got %v", d.MaxAbsMM), "decision", "max_abs_mm")
