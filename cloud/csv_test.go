@@ -375,3 +375,53 @@ func TestCSVErrors(t *testing.T) {
 		})
 	}
 }
+
+// TestFastFloat checks the decimal fast path against strconv.ParseFloat,
+// whose results are correctly rounded (Go strconv documentation), on fixed
+// edge cases and on random mm-precision site coordinates.
+func TestFastFloat(t *testing.T) {
+	cases := []string{"0", "-0", "+0", "0.", ".5", "-.5", "5.", "1", "123456789012345", "1234567890123456",
+		"0.000000000000000000001", "0.0000000000000000000001", "0.1", "0.3", "500123.456", "5000123.789",
+		"-0.001", "9007199254740993", "000000000000000000000012.5", "1.2.3", "", "-", "+", ".", "1e3", "1_0", " 1", "0x1p3", "nan"}
+	rng := uint64(88172645463325252) // xorshift64 (Marsaglia 2003), fixed seed
+	for i := 0; i < 20000; i++ {
+		rng ^= rng << 13
+		rng ^= rng >> 7
+		rng ^= rng << 17
+		v := float64(rng%10_000_000_000_000) / 1000 // up to 1e10 m with mm
+		cases = append(cases, strconv.FormatFloat(v, 'f', 3, 64), strconv.FormatFloat(-v/1e6, 'f', 9, 64))
+	}
+	for _, s := range cases {
+		want, err := strconv.ParseFloat(s, 64)
+		got, ok := fastFloat([]byte(s))
+		if !ok {
+			continue // strconv handles it
+		}
+		if err != nil {
+			t.Errorf("fastFloat(%q) = %v, but strconv rejects it: %v", s, got, err)
+			continue
+		}
+		if math.Float64bits(got) != math.Float64bits(want) {
+			t.Errorf("fastFloat(%q) = %v, strconv %v", s, got, want)
+		}
+	}
+	if _, ok := fastFloat([]byte("500123.456")); !ok {
+		t.Error("fast path not taken for a plain site coordinate")
+	}
+}
+
+// TestIDSet checks repeat detection across table growth.
+func TestIDSet(t *testing.T) {
+	var s idSet
+	for i := 0; i < 5000; i++ {
+		if _, dup := s.add("P"+strconv.Itoa(i), int64(i+1)); dup {
+			t.Fatalf("P%d reported as a repeat", i)
+		}
+	}
+	for i := 0; i < 5000; i += 7 {
+		first, dup := s.add("P"+strconv.Itoa(i), 9999)
+		if !dup || first != int64(i+1) {
+			t.Fatalf("P%d: repeat %v, first line %d, want line %d", i, dup, first, i+1)
+		}
+	}
+}

@@ -139,35 +139,73 @@ func Scan(r Reader) (Summary, error) {
 }
 
 // MaxTrackedIDs bounds the memory of duplicate-id detection: after this many
-// distinct ids, further ids are not checked (8 bytes of hash and 8 of line
-// per id, about 48 MiB with map overhead at 2^21).
+// distinct ids, further ids are only checked against those kept (16 bytes
+// per slot at most half full: 64 MiB at 2^21 ids).
 const MaxTrackedIDs = 1 << 21
 
 // idSet detects repeated point ids in bounded memory. It keeps a 64-bit
-// FNV-1a hash of each id with the line it was first seen on, so two
-// different ids collide with probability about n²/2⁶⁵ (3e-8 at 10^6 ids),
-// an accepted risk for a warning.
+// FNV-1a hash of each id with the line it was first seen on, in an
+// open-addressing table with linear probing, so two different ids collide
+// with probability about n²/2⁶⁵ (3e-8 at 10^6 ids), an accepted risk for a
+// warning.
 type idSet struct {
-	first map[uint64]int64
+	keys  []uint64 // 0 marks an empty slot
+	lines []int64
+	n     int
 	full  bool
 }
 
 // add records id, seen on line, and reports the line it was first seen on
 // and whether it is a repeat.
 func (s *idSet) add(id string, line int64) (int64, bool) {
-	if s.first == nil {
-		s.first = make(map[uint64]int64)
+	h := fnv64(id) | 1 // never 0, the empty mark
+	if 2*(s.n+1) > len(s.keys) {
+		if s.n >= MaxTrackedIDs {
+			if l, ok := s.find(h); ok {
+				return l, true
+			}
+			s.full = true
+			return 0, false
+		}
+		s.rehash(max(1<<14, 2*len(s.keys)))
 	}
-	h := fnv64(id)
-	if l, ok := s.first[h]; ok {
-		return l, true
+	mask := len(s.keys) - 1
+	for i := int(h>>32) & mask; ; i = (i + 1) & mask {
+		switch s.keys[i] {
+		case h:
+			return s.lines[i], true
+		case 0:
+			s.keys[i], s.lines[i] = h, line
+			s.n++
+			return 0, false
+		}
 	}
-	if len(s.first) >= MaxTrackedIDs {
-		s.full = true
-		return 0, false
+}
+
+func (s *idSet) find(h uint64) (int64, bool) {
+	mask := len(s.keys) - 1
+	for i := int(h>>32) & mask; s.keys[i] != 0; i = (i + 1) & mask {
+		if s.keys[i] == h {
+			return s.lines[i], true
+		}
 	}
-	s.first[h] = line
 	return 0, false
+}
+
+func (s *idSet) rehash(size int) {
+	keys, lines := s.keys, s.lines
+	s.keys, s.lines = make([]uint64, size), make([]int64, size)
+	mask := size - 1
+	for j, h := range keys {
+		if h == 0 {
+			continue
+		}
+		i := int(h>>32) & mask
+		for s.keys[i] != 0 {
+			i = (i + 1) & mask
+		}
+		s.keys[i], s.lines[i] = h, lines[j]
+	}
 }
 
 // fnv64 is the 64-bit FNV-1a hash (Fowler, Noll, Vo; constants from the
