@@ -167,6 +167,34 @@ func TestValidateInCode(t *testing.T) {
 	}
 }
 
+// TestWarnings: a valid but incomplete model is named in the report.
+func TestWarnings(t *testing.T) {
+	for _, c := range []struct {
+		name string
+		m    Model
+		want []string
+	}{
+		{"complete", Model{Instrument: Instrument{Kind: KindTotalStation, AngleArcsec: 1, DistanceMM: 1, Stations: []Station{siteStation}}, ControlMM: 2}, nil},
+		{"no distance, no control", Model{Instrument: Instrument{Kind: KindTotalStation, HzArcsec: 1, ZenithArcsec: 1, Stations: []Station{siteStation}}},
+			[]string{"no distance", "no control"}},
+		{"scanner without angles", Model{Instrument: Instrument{Kind: KindScanner, RangeMM: 1, Stations: []Station{siteStation}}, ControlMM: 3},
+			[]string{"no angle"}},
+		{"all zero plain", Model{Instrument: Instrument{Kind: KindPlain}}, []string{"every uncertainty is zero"}},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			got := c.m.Warnings()
+			if len(got) != len(c.want) {
+				t.Fatalf("got %q, want %d warnings", got, len(c.want))
+			}
+			for i := range got {
+				if !strings.Contains(got[i], c.want[i]) {
+					t.Errorf("warning %d: got %q, want it to contain %q", i, got[i], c.want[i])
+				}
+			}
+		})
+	}
+}
+
 // FuzzDecodeModel checks that any yaml section decodes without panicking
 // and that a model which decodes survives encode → decode unchanged.
 func FuzzDecodeModel(f *testing.F) {

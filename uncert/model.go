@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 	"strconv"
 
 	"gonum.org/v1/gonum/spatial/r3"
@@ -178,13 +179,20 @@ func (m *Model) Validate() error {
 func (m *Model) validate() *fieldError {
 	in := &m.Instrument
 	bad := func(msg string, path ...string) *fieldError { return &fieldError{path: path, msg: msg} }
-	type field struct {
-		name  string
-		v     float64
-		kinds []Kind // kinds the field applies to; nil = all
+	// nonNeg checks a standard uncertainty (or another size) read from the
+	// file: finite and ≥ 0 (NaN fails both comparisons).
+	nonNeg := func(v float64, path ...string) *fieldError {
+		if v >= 0 && !math.IsInf(v, 1) {
+			return nil
+		}
+		return bad(fmt.Sprintf("must be a finite number ≥ 0, got %v", v), path...)
 	}
 	ts, sc, pl := KindTotalStation, KindScanner, KindPlain
-	fields := []field{
+	fields := []struct {
+		name  string
+		v     float64
+		kinds []Kind // the kinds the field applies to
+	}{
 		{"angle_arcsec", in.AngleArcsec, []Kind{ts, sc}},
 		{"hz_arcsec", in.HzArcsec, []Kind{ts, sc}},
 		{"zenith_arcsec", in.ZenithArcsec, []Kind{ts, sc}},
@@ -206,10 +214,10 @@ func (m *Model) validate() *fieldError {
 		return bad(fmt.Sprintf("unknown kind %q (want total-station, scanner or plain)", in.Kind), "instrument", "kind")
 	}
 	for _, f := range fields {
-		if !(f.v >= 0) || math.IsInf(f.v, 1) {
-			return bad(fmt.Sprintf("must be a finite number ≥ 0, got %v", f.v), "instrument", f.name)
+		if e := nonNeg(f.v, "instrument", f.name); e != nil {
+			return e
 		}
-		if f.v != 0 && !hasKind(f.kinds, in.Kind) {
+		if f.v != 0 && !slices.Contains(f.kinds, in.Kind) {
 			return bad(fmt.Sprintf("does not apply to kind %s", in.Kind), "instrument", f.name)
 		}
 	}
@@ -224,43 +232,15 @@ func (m *Model) validate() *fieldError {
 	default:
 		return bad(fmt.Sprintf("unknown rule %q (want linear or rss)", in.DistanceCombine), "instrument", "distance_combine")
 	}
-	if in.Kind == pl {
-		if len(in.Stations) > 0 {
-			return bad("does not apply to kind plain", "instrument", "stations")
-		}
-	} else {
-		if len(in.Stations) == 0 {
-			return bad(fmt.Sprintf("kind %s needs at least one station", in.Kind), "instrument", "stations")
-		}
-		seen := make(map[string]bool, len(in.Stations))
-		for i, st := range in.Stations {
-			idx := strconv.Itoa(i)
-			for _, c := range []struct {
-				name string
-				v    float64
-			}{{"e", st.E}, {"n", st.N}, {"h", st.H}, {"instrument_height", st.InstrumentHeight}} {
-				if math.IsNaN(c.v) || math.IsInf(c.v, 0) {
-					return bad("must be finite", "instrument", "stations", idx, c.name)
-				}
-			}
-			if !(st.SigmaMM >= 0) || math.IsInf(st.SigmaMM, 1) {
-				return bad(fmt.Sprintf("must be a finite number ≥ 0, got %v", st.SigmaMM), "instrument", "stations", idx, "sigma_mm")
-			}
-			if st.ID == "" && len(in.Stations) > 1 {
-				return bad("several stations need an id each", "instrument", "stations", idx)
-			}
-			if seen[st.ID] {
-				return bad(fmt.Sprintf("duplicate station id %q", st.ID), "instrument", "stations", idx, "id")
-			}
-			seen[st.ID] = true
-		}
+	if e := m.validateStations(bad, nonNeg); e != nil {
+		return e
 	}
 	for _, c := range []struct {
 		name string
 		v    float64
 	}{{"control_mm", m.ControlMM}, {"design_mm", m.DesignMM}, {"surface_mm", m.SurfaceMM}} {
-		if !(c.v >= 0) || math.IsInf(c.v, 1) {
-			return bad(fmt.Sprintf("must be a finite number ≥ 0, got %v", c.v), c.name)
+		if e := nonNeg(c.v, c.name); e != nil {
+			return e
 		}
 	}
 	d := &m.Decision
@@ -275,19 +255,78 @@ func (m *Model) validate() *fieldError {
 	if !(d.MinShare >= 0 && d.MinShare <= 1) {
 		return bad(fmt.Sprintf("must lie in (0, 1] (0 means 1), got %v", d.MinShare), "decision", "min_share")
 	}
-	if !(d.MaxAbsMM >= 0) || math.IsInf(d.MaxAbsMM, 1) {
-		return bad(fmt.Sprintf("must be a finite number ≥ 0, got %v", d.MaxAbsMM), "decision", "max_abs_mm")
+	return nonNeg(d.MaxAbsMM, "decision", "max_abs_mm")
+}
+
+func (m *Model) validateStations(bad func(string, ...string) *fieldError, nonNeg func(float64, ...string) *fieldError) *fieldError {
+	in := &m.Instrument
+	if in.Kind == KindPlain {
+		if len(in.Stations) > 0 {
+			return bad("does not apply to kind plain", "instrument", "stations")
+		}
+		return nil
+	}
+	if len(in.Stations) == 0 {
+		return bad(fmt.Sprintf("kind %s needs at least one station", in.Kind), "instrument", "stations")
+	}
+	seen := make(map[string]bool, len(in.Stations))
+	for i, st := range in.Stations {
+		idx := strconv.Itoa(i)
+		for _, c := range []struct {
+			name string
+			v    float64
+		}{{"e", st.E}, {"n", st.N}, {"h", st.H}, {"instrument_height", st.InstrumentHeight}} {
+			if math.IsNaN(c.v) || math.IsInf(c.v, 0) {
+				return bad("must be finite", "instrument", "stations", idx, c.name)
+			}
+		}
+		if e := nonNeg(st.SigmaMM, "instrument", "stations", idx, "sigma_mm"); e != nil {
+			return e
+		}
+		if st.ID == "" && len(in.Stations) > 1 {
+			return bad("several stations need an id each", "instrument", "stations", idx)
+		}
+		if seen[st.ID] {
+			return bad(fmt.Sprintf("duplicate station id %q", st.ID), "instrument", "stations", idx, "id")
+		}
+		seen[st.ID] = true
 	}
 	return nil
 }
 
-func hasKind(ks []Kind, k Kind) bool {
-	for _, x := range ks {
-		if x == k {
-			return true
+// Warnings lists statements a report should carry about a valid model that
+// is probably incomplete: an instrument whose angle or distance noise is
+// stated as zero (so that term is taken as exact), or a model whose
+// combined uncertainty is zero everywhere (guarded acceptance then decides
+// like simple acceptance).
+func (m *Model) Warnings() []string {
+	in := &m.Instrument
+	var w []string
+	angle := in.AngleArcsec > 0 || (in.HzArcsec > 0 && in.ZenithArcsec > 0)
+	switch in.Kind {
+	case KindTotalStation:
+		if !angle {
+			w = append(w, "no angle uncertainty stated: angle errors are taken as zero")
+		}
+		if in.DistanceMM == 0 && in.DistancePPM == 0 {
+			w = append(w, "no distance uncertainty stated: distance errors are taken as zero")
+		}
+	case KindScanner:
+		if !angle {
+			w = append(w, "no angle uncertainty stated: angle errors are taken as zero")
+		}
+		if in.RangeMM == 0 && in.RangeMMPerM == 0 {
+			w = append(w, "no range uncertainty stated: range errors are taken as zero")
+		}
+	case KindPlain:
+		if in.SigmaMM == 0 && m.ControlMM == 0 && m.DesignMM == 0 && m.SurfaceMM == 0 {
+			w = append(w, "every uncertainty is zero: deviations are treated as exact")
 		}
 	}
-	return false
+	if in.Kind != KindPlain && m.ControlMM == 0 {
+		w = append(w, "no control / registration uncertainty stated (control_mm): the frame is taken as exact")
+	}
+	return w
 }
 
 // Rule returns the decision rule the model states (guarded, k = 2 when
