@@ -247,30 +247,130 @@ func Compare(cores []Core, a, b []r3.Vec, s *Settings) Summary {
 	set := s.withDefaults()
 	ia := newPlanIndex(a, set.Radius)
 	ib := newPlanIndex(b, set.Radius)
+	parallel(len(cores), set.Workers, func(k int, scratch []float64) []float64 {
+		c := &cores[k]
+		c.Mean1, c.Sigma1, c.N1, scratch = cylinder(ia, c.P, c.N, &set, scratch)
+		c.Mean2, c.Sigma2, c.N2, scratch = cylinder(ib, c.P, c.N, &set, scratch)
+		decide(c, &set)
+		return scratch
+	})
+	return summarise(cores)
+}
+
+// Position is one epoch's statistics in the cylinder of one core point:
+// the mean (or median) position along the normal from the core point, m,
+// its standard deviation (n−1 denominator), m, and the point count.
+type Position struct {
+	Mean, Sigma float64
+	N           int
+}
+
+// U returns the standard uncertainty of the position's mean,
+// sqrt(σ²/n + reg²), with reg the epoch's registration standard error
+// (common to all its points, so not divided by n). It is NaN for n < 2.
+func (p Position) U(reg float64) float64 {
+	if p.N < 2 {
+		return math.NaN()
+	}
+	return math.Sqrt(p.Sigma*p.Sigma/float64(p.N) + reg*reg)
+}
+
+// Positions computes, for every core point, one epoch's cylinder
+// statistics (see Compare) and returns them in dst (reused if long enough).
+// Settings as for Compare; Registration is not used.
+func Positions(dst []Position, cores []Core, pts []r3.Vec, s *Settings) []Position {
+	set := s.withDefaults()
+	if cap(dst) < len(cores) {
+		dst = make([]Position, len(cores))
+	}
+	dst = dst[:len(cores)]
+	ix := newPlanIndex(pts, set.Radius)
+	parallel(len(cores), set.Workers, func(k int, scratch []float64) []float64 {
+		p := &dst[k]
+		p.Mean, p.Sigma, p.N, scratch = cylinder(ix, cores[k].P, cores[k].N, &set, scratch)
+		return scratch
+	})
+	return dst
+}
+
+// parallel calls f(k) for k in [0, n) on workers goroutines, in blocks;
+// each worker keeps its own scratch slice.
+func parallel(n, workers int, f func(k int, scratch []float64) []float64) {
 	var next atomic.Int64
 	const block = 32
 	var wg sync.WaitGroup
-	for w := 0; w < set.Workers; w++ {
+	for w := 0; w < workers; w++ {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
 			var scratch []float64
 			for {
 				k0 := int(next.Add(block)) - block
-				if k0 >= len(cores) {
+				if k0 >= n {
 					return
 				}
-				for k := k0; k < min(k0+block, len(cores)); k++ {
-					c := &cores[k]
-					c.Mean1, c.Sigma1, c.N1, scratch = cylinder(ia, c.P, c.N, &set, scratch)
-					c.Mean2, c.Sigma2, c.N2, scratch = cylinder(ib, c.P, c.N, &set, scratch)
-					decide(c, &set)
+				for k := k0; k < min(k0+block, n); k++ {
+					scratch = f(k, scratch)
 				}
 			}
 		}()
 	}
 	wg.Wait()
-	return summarise(cores)
+}
+
+// CoreTrend is the trend of the position along the normal at one core point
+// over three or more epochs.
+type CoreTrend struct {
+	Trend
+	Epochs int  // epochs with at least MinPoints in the cylinder
+	OK     bool // false when fewer than three epochs qualify
+}
+
+// CoreTrends fits, at every core point, the rate of its position along the
+// normal over the epochs (years[k], positions pos[k], registration standard
+// error reg[k] in m), by FitTrend with uᵢ = Position.U(reg). Epochs with
+// fewer than MinPoints in the cylinder are left out at that core; a core
+// with fewer than three epochs left has OK false.
+func CoreTrends(dst []CoreTrend, years []float64, pos [][]Position, reg []float64, s *Settings, alpha float64) []CoreTrend {
+	set := s.withDefaults()
+	if len(pos) != len(years) || len(reg) != len(years) {
+		panic("change: CoreTrends: years, pos and reg differ in length")
+	}
+	n := 0
+	if len(pos) > 0 {
+		n = len(pos[0])
+	}
+	if cap(dst) < n {
+		dst = make([]CoreTrend, n)
+	}
+	dst = dst[:n]
+	t := make([]float64, 0, len(years))
+	y := make([]float64, 0, len(years))
+	u := make([]float64, 0, len(years))
+	for c := 0; c < n; c++ {
+		t, y, u = t[:0], y[:0], u[:0]
+		for k := range years {
+			p := pos[k][c]
+			if p.N < set.MinPoints {
+				continue
+			}
+			uk := p.U(reg[k])
+			if !(uk > 0) {
+				continue
+			}
+			t, y, u = append(t, years[k]), append(y, p.Mean), append(u, uk)
+		}
+		dst[c] = CoreTrend{Epochs: len(t)}
+		if len(t) < 3 {
+			continue
+		}
+		tr, err := FitTrend(t, y, u, alpha)
+		if err != nil {
+			continue
+		}
+		dst[c].Trend, dst[c].OK = tr, true
+	}
+	return dst
 }
 
 // decide sets Distance, LoD and Status of c from its cylinder statistics.

@@ -226,3 +226,48 @@ func BenchmarkCompare5M(b *testing.B) {
 	}
 	benchmarkCompare(b, 5_000_000)
 }
+
+// TestCoreTrends generates four epochs of a plane sinking at a known rate
+// (the truth) and checks the per-core rates and their significance.
+func TestCoreTrends(t *testing.T) {
+	const rate = -0.002 // m per year
+	years := []float64{2020, 2022, 2023.5, 2026}
+	set := &Settings{CoreSpacing: 2, Radius: 0.45, HalfLength: 0.1}
+	rng := rand.New(rand.NewPCG(15, 16))
+	epochs := make([][]r3.Vec, len(years))
+	for k, y := range years {
+		epochs[k] = planeEpoch(rng, 16000, 20, siteOrigin, ex, ey, ez, rate*(y-2020), 0.001)
+	}
+	cores, err := Grid(nil, nil, 0, epochs[0], epochs[1], set)
+	if err != nil {
+		t.Fatal(err)
+	}
+	pos := make([][]Position, len(years))
+	for k := range years {
+		pos[k] = Positions(nil, cores, epochs[k], set)
+	}
+	trends := CoreTrends(nil, years, pos, make([]float64, len(years)), set, 0.05)
+	var sum float64
+	n, sig := 0, 0
+	for _, tr := range trends {
+		if !tr.OK {
+			continue
+		}
+		n++
+		sum += tr.Rate
+		if tr.Significant {
+			sig++
+		}
+	}
+	if n < len(cores)*9/10 {
+		t.Fatalf("trends at %d of %d cores", n, len(cores))
+	}
+	// Per core u(rate) ≈ 0.15 mm/yr / sqrt(25 points) → mean of 100 cores
+	// within 0.05 mm/yr.
+	near(t, "mean rate", sum/float64(n), rate, 5e-5)
+	if sig < n*8/10 {
+		t.Errorf("significant at %d of %d cores, want most", sig, n)
+	}
+	// sqrt(0.009²/9 + 0.004²) = sqrt(9e-6 + 16e-6) = 5 mm.
+	near(t, "Position.U", Position{Mean: 0, Sigma: 0.009, N: 9}.U(0.004), 0.005, tolExact)
+}

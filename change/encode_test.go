@@ -1,0 +1,66 @@
+package change
+
+import (
+	"encoding/json"
+	"reflect"
+	"strings"
+	"testing"
+
+	"gonum.org/v1/gonum/mat"
+)
+
+func TestEstimateJSONRoundTrip(t *testing.T) {
+	e := Estimate{
+		Params:   []Param{{"k1", Shape}, {"t_z", Translation}, {"rot_x", Rotation}},
+		Value:    []float64{0.1, -0.002, 1e-4},
+		Cov:      mat.NewSymDense(3, []float64{1e-8, 2e-9, 0, 2e-9, 4e-6, 1e-9, 0, 1e-9, 1e-10}),
+		Cofactor: true, S0sq: 1.3, Dof: 211,
+	}
+	b, err := json.Marshal(e)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var got Estimate
+	if err := json.Unmarshal(b, &got); err != nil {
+		t.Fatal(err)
+	}
+	if !reflect.DeepEqual(got.Params, e.Params) || !reflect.DeepEqual(got.Value, e.Value) || got.Dof != e.Dof || got.S0sq != e.S0sq || !got.Cofactor {
+		t.Errorf("round trip: got %+v, want %+v", got, e)
+	}
+	if !mat.Equal(got.Cov, e.Cov) {
+		t.Errorf("covariance: got %v, want %v", mat.Formatted(got.Cov), mat.Formatted(e.Cov))
+	}
+	bad := []struct{ name, in, want string }{
+		{"asymmetric", `{"params":[{"name":"a","kind":"shape"},{"name":"b","kind":"shape"}],"value":[1,2],"cov":[[1,2],[3,1]]}`, "symmetric"},
+		{"kind", `{"params":[{"name":"a","kind":"wobble"}],"value":[1],"cov":[[1]]}`, "kind"},
+		{"rows", `{"params":[{"name":"a","kind":"shape"}],"value":[1],"cov":[]}`, "covariance rows"},
+	}
+	for _, tc := range bad {
+		t.Run(tc.name, func(t *testing.T) {
+			var e Estimate
+			err := json.Unmarshal([]byte(tc.in), &e)
+			if err == nil || !strings.Contains(err.Error(), tc.want) {
+				t.Errorf("got %v, want an error containing %q", err, tc.want)
+			}
+		})
+	}
+}
+
+func FuzzEstimateJSON(f *testing.F) {
+	f.Add(`{"params":[{"name":"k1","kind":"shape"}],"value":[0.1],"cov":[[1e-8]],"dof":3}`)
+	f.Add(`{"params":[],"value":[],"cov":[]}`)
+	f.Fuzz(func(t *testing.T, s string) {
+		var e Estimate
+		if json.Unmarshal([]byte(s), &e) != nil {
+			return
+		}
+		b, err := json.Marshal(e)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var again Estimate
+		if err := json.Unmarshal(b, &again); err != nil {
+			t.Fatalf("re-reading %s: %v", b, err)
+		}
+	})
+}
