@@ -365,6 +365,8 @@ func (m *Model) Setups() ([]Setup, error) {
 	if in.Kind == KindPlain {
 		return []Setup{base}, nil
 	}
+	base.polar = true
+	base.scanner = in.Kind == KindScanner
 	hz, zen := in.AngleArcsec, in.AngleArcsec
 	if in.HzArcsec != 0 {
 		hz = in.HzArcsec

@@ -80,8 +80,10 @@ type Setup struct {
 	// ID is the station ID ("" for a single unnamed station or a plain model).
 	ID string
 
-	kind   Kind
-	origin r3.Vec // instrument centre
+	kind    Kind
+	polar   bool // a total station or scanner (else a plain model)
+	scanner bool
+	origin  r3.Vec // instrument centre
 
 	varT, varZ   float64 // per-point angle variances, rad²
 	varO         float64 // orientation variance (common), rad²
@@ -100,9 +102,8 @@ func (s *Setup) Origin() r3.Vec { return s.origin }
 // Kind returns the instrument kind.
 func (s *Setup) Kind() Kind { return s.kind }
 
-// columns returns the three Jacobian columns projected on n (gT, gZ, gS),
-// the slope distance r, and whether the geometry is degenerate (point at the
-// instrument centre or straight above/below it).
+// columns returns the three Jacobian columns projected on n (gT, gZ, gS)
+// and the slope distance r.
 //
 // Degenerate cases, documented choices: with h = 0 the direction T is
 // undefined and a zenith error moves the point horizontally in the
@@ -132,12 +133,8 @@ func (s *Setup) columns(p, n r3.Vec) (gT, gZ, gS, r float64) {
 // r and, for a scanner, the incidence factor: cosA = |ê·n̂| floored at the
 // cap, and whether the cap was hit.
 func (s *Setup) sigmaS(r, gS float64) (sig float64, grazing bool) {
-	if s.rss {
-		sig = math.Hypot(s.distA, s.distB*r)
-	} else {
-		sig = s.distA + s.distB*r
-	}
-	if s.kind == KindScanner {
+	sig = s.distSigma(r)
+	if s.scanner {
 		c := math.Abs(gS)
 		if c < s.cosMax {
 			c, grazing = s.cosMax, true
@@ -145,6 +142,15 @@ func (s *Setup) sigmaS(r, gS float64) (sig float64, grazing bool) {
 		sig /= c
 	}
 	return sig, grazing
+}
+
+// distSigma returns the distance or range σ at slope distance r, before any
+// incidence inflation.
+func (s *Setup) distSigma(r float64) float64 {
+	if s.rss {
+		return math.Hypot(s.distA, s.distB*r)
+	}
+	return s.distA + s.distB*r
 }
 
 // NormalU returns the combined standard uncertainty (metres) of the
@@ -162,7 +168,7 @@ func (s *Setup) sigmaS(r, gS float64) (sig float64, grazing bool) {
 // n must be a unit vector; p is in site coordinates. The fit component is
 // not included (see FitComponent).
 func (s *Setup) NormalU(p, n r3.Vec) float64 {
-	if s.kind == KindPlain || s.kind == "" {
+	if !s.polar {
 		return math.Sqrt(s.extra2)
 	}
 	// The same sum as Eval, arranged for the hot path (one square root for
@@ -183,15 +189,12 @@ func (s *Setup) NormalU(p, n r3.Vec) float64 {
 	gZ2 := num * num * r2 * inv
 	gS2 := sd * sd * h2 * inv
 	r := math.Sqrt(r2)
-	var sig float64
+	sig := s.distA + s.distB*r
 	if s.rss {
-		sig2 := s.distA*s.distA + s.distB*s.distB*r2
-		sig = math.Sqrt(sig2)
-	} else {
-		sig = s.distA + s.distB*r
+		sig = math.Sqrt(s.distA*s.distA + s.distB*s.distB*r2) // distSigma without Hypot's scaling
 	}
 	v := (s.varT+s.varO)*gT*gT + s.varZ*gZ2 + s.station.Quad(n)
-	if s.kind == KindScanner {
+	if s.scanner {
 		// σ_S²·g_S² with σ_S = σ_r/cos α and cos α = |sd|/r is σ_r² unless
 		// the cap applies.
 		if gS2 < s.cosMax*s.cosMax {
@@ -213,7 +216,7 @@ func (s *Setup) Eval(p, n r3.Vec) PointU {
 	pt.C[Control] = math.Sqrt(s.control2)
 	pt.C[Design] = math.Sqrt(s.design2)
 	pt.C[SurfaceTexture] = math.Sqrt(s.surface2)
-	if s.kind == KindPlain || s.kind == "" {
+	if !s.polar {
 		return pt
 	}
 	gT, gZ, gS, r := s.columns(p, n)
@@ -223,7 +226,7 @@ func (s *Setup) Eval(p, n r3.Vec) PointU {
 	pt.C[Distance] = sig * math.Abs(gS)
 	pt.C[StationSetup] = math.Sqrt(s.station.Quad(n))
 	pt.Grazing = grazing
-	if s.kind == KindScanner {
+	if s.scanner {
 		pt.Incidence = math.Acos(math.Min(1, math.Abs(gS)))
 	}
 	return pt
@@ -236,16 +239,13 @@ func (s *Setup) Eval(p, n r3.Vec) PointU {
 // surface) are not included.
 func (s *Setup) Cov(p r3.Vec) Sym3 {
 	var c Sym3
-	if s.kind == KindPlain || s.kind == "" {
+	if !s.polar {
 		return c
 	}
 	d := r3.Sub(p, s.origin)
 	h := math.Hypot(d.X, d.Y)
 	r := r3.Norm(d)
-	sig := s.distA + s.distB*r
-	if s.rss {
-		sig = math.Hypot(s.distA, s.distB*r)
-	}
+	sig := s.distSigma(r)
 	c = s.station
 	c.addOuter(s.varT+s.varO, r3.Vec{X: d.Y, Y: -d.X})
 	if h > 0 {
