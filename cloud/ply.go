@@ -109,6 +109,8 @@ type plyReader struct {
 	attrs []int  // indexes of the other scalar vertex properties
 	names []string
 	fast  bool // fixed layout with little-endian double x, y, z
+	// recheck is set when the fast path met a point that check must see.
+	recheck bool
 
 	done    int64 // vertex records returned
 	buf     []byte
@@ -600,7 +602,10 @@ func (r *plyReader) Read(c *Chunk, max int) error {
 		return err
 	}
 	r.done += int64(n)
-	r.check(c)
+	if !r.fast || r.recheck || r.unit.Metres != 1 {
+		r.check(c)
+	}
+	r.recheck = false
 	return nil
 }
 
@@ -630,14 +635,30 @@ func (r *plyReader) readFixed(c *Chunk, n int) error {
 		if r.fast {
 			ox, oy, oz := v.props[r.xyz[0]].off, v.props[r.xyz[1]].off, v.props[r.xyz[2]].off
 			le := binary.LittleEndian
-			for i := range p {
-				b := src[i*rec : i*rec+rec]
-				p[i] = r3.Vec{
-					X: math.Float64frombits(le.Uint64(b[ox:])),
-					Y: math.Float64frombits(le.Uint64(b[oy:])),
-					Z: math.Float64frombits(le.Uint64(b[oz:])),
+			// hi is the largest |coordinate| as IEEE 754 bits: for
+			// non-negative values the bit patterns order as the values,
+			// and NaN patterns lie above +Inf, so one compare at the end
+			// finds any non-finite or out-of-range point.
+			const sign = 1 << 63
+			var hi uint64
+			if ox == 0 && oy == 8 && oz == 16 {
+				// x, y, z first: constant offsets, one bounds check.
+				for i, o := 0, 0; i < len(p); i, o = i+1, o+rec {
+					b := src[o : o+24]
+					ux, uy, uz := le.Uint64(b[0:8]), le.Uint64(b[8:16]), le.Uint64(b[16:24])
+					p[i] = r3.Vec{X: math.Float64frombits(ux), Y: math.Float64frombits(uy), Z: math.Float64frombits(uz)}
+					hi = max(hi, ux&^sign, uy&^sign, uz&^sign)
+				}
+			} else {
+				b := src
+				for i := range p {
+					ux, uy, uz := le.Uint64(b[ox:]), le.Uint64(b[oy:]), le.Uint64(b[oz:])
+					p[i] = r3.Vec{X: math.Float64frombits(ux), Y: math.Float64frombits(uy), Z: math.Float64frombits(uz)}
+					hi = max(hi, ux&^sign, uy&^sign, uz&^sign)
+					b = b[rec:]
 				}
 			}
+			r.recheck = r.recheck || hi > math.Float64bits(MaxCoord)
 		} else {
 			for a := range r.scratch {
 				r.scratch[a] = grow(r.scratch[a], k)
@@ -703,12 +724,15 @@ func (r *plyReader) check(c *Chunk) {
 		if u != 1 {
 			p = r3.Scale(u, p)
 		}
-		m := math.Max(math.Abs(p.X), math.Max(math.Abs(p.Y), math.Abs(p.Z)))
-		if m <= MaxCoord {
+		ax, ay, az := math.Abs(p.X), math.Abs(p.Y), math.Abs(p.Z)
+		if ax <= MaxCoord && ay <= MaxCoord && az <= MaxCoord {
 			c.P[i] = p
-			r.maxAbs = math.Max(r.maxAbs, m)
+			if r.f32 {
+				r.maxAbs = max(r.maxAbs, ax, ay, az)
+			}
 			continue
 		}
+		m := max(ax, ay, az)
 		if c.Reject[i] == "" {
 			if finite(p.X) && finite(p.Y) && finite(p.Z) {
 				c.Reject[i] = fmt.Sprintf("out of range (|v| = %g m > %g m)", m, float64(MaxCoord))
