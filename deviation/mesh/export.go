@@ -175,6 +175,9 @@ func WriteSTL(path string, origin r3.Vec, verts []r3.Vec, tris [][3]int32) (err 
 			os.Remove(tmp.Name())
 		}
 	}()
+	if err = tmp.Chmod(0o644); err != nil { // CreateTemp makes 0600
+		return err
+	}
 	bw := bufio.NewWriter(tmp)
 	if err = solid.WriteAll(bw); err != nil {
 		return err
