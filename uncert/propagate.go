@@ -208,6 +208,17 @@ func (s *Setup) NormalU(p, n r3.Vec) float64 {
 	return math.Sqrt(v + s.extra2)
 }
 
+// NormalUTo sets dst[i] = NormalU(pts[i], normals[i]) for a chunk of
+// points. It panics unless the three slices have the same length.
+func (s *Setup) NormalUTo(dst []float64, pts, normals []r3.Vec) {
+	if len(dst) != len(pts) || len(normals) != len(pts) {
+		panic("uncert: NormalUTo: slice lengths differ")
+	}
+	for i, p := range pts {
+		dst[i] = s.NormalU(p, normals[i])
+	}
+}
+
 // Eval returns the uncertainty components of point p along the unit normal
 // n, for budgets and flags. Its U() equals NormalU(p, n).
 func (s *Setup) Eval(p, n r3.Vec) PointU {
