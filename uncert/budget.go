@@ -154,6 +154,33 @@ func (b *BudgetStats) N() int64 { return b.n }
 // Grazing returns the number of points flagged grazing.
 func (b *BudgetStats) Grazing() int64 { return b.grazing }
 
+// MeanDeviationU returns the standard uncertainty (metres) of the mean
+// deviation of the points added, for a patch's mean offset:
+//
+//	u²(d̄) = Σ_common (mean c)² + Σ_per-point mean(c²) / N.
+//
+// Per-point components average down by √N; components common to a setup
+// do not (FIELD.md §2 budget note). The common part uses the mean of the
+// magnitudes, an upper bound where a common error projects with different
+// signs on different normals. Meant for the points of one setup; over
+// several setups it overstates (their common errors are independent).
+// NaN with no points.
+func (b *BudgetStats) MeanDeviationU() float64 {
+	if b.n == 0 {
+		return math.NaN()
+	}
+	fn := float64(b.n)
+	var v float64
+	for i := Component(0); i < NumComponents; i++ {
+		if i.Common() {
+			v += sq(b.sum[i] / fn)
+		} else {
+			v += b.ss[i] / fn / fn
+		}
+	}
+	return math.Sqrt(v)
+}
+
 // RMS returns the budget of root-mean-square values. Its lines add in
 // quadrature to its combined value exactly (mean u² = Σ mean c²), so it is
 // the table to print.

@@ -91,6 +91,22 @@ func TestBudgetStats(t *testing.T) {
 	}
 }
 
+// TestMeanDeviationU: with 2 mm control (common) and 3 mm plain noise (per
+// point), the mean of N = 9 points has u² = 2² + 3²/9 = 5 mm² — the
+// textbook √N rule for the independent part only.
+func TestMeanDeviationU(t *testing.T) {
+	s := mustSetup(t, Model{Instrument: Instrument{Kind: KindPlain, SigmaMM: 3}, ControlMM: 2})
+	var b BudgetStats
+	if !math.IsNaN(b.MeanDeviationU()) {
+		t.Error("empty: want NaN")
+	}
+	for i := 0; i < 9; i++ {
+		e := s.Eval(r3.Vec{X: float64(i)}, r3.Vec{Z: 1})
+		b.Add(&e)
+	}
+	near(t, "u(mean)", b.MeanDeviationU()/mm, math.Sqrt(5), 1e-12)
+}
+
 func BenchmarkBudgetAdd(b *testing.B) {
 	s := mustSetup(b, bigModel())
 	p := FromPolar(s.Origin(), Polar{T: 1, Z: deg(80), S: 30})
