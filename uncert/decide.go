@@ -35,7 +35,8 @@ const (
 
 // DefaultK is the coverage factor when Rule.K is zero: k = 2 gives about
 // 95 % coverage for a normal distribution with many degrees of freedom
-// (JCGM 100:2008 §6.3.3; FIELD.md §2).
+// (JCGM 100:2008, confirmed via the NIST/SEMATECH e-Handbook §2.5.7 as
+// FIELD.md §2 records; the GUM clause §6.3.3 from memory).
 const DefaultK = 2
 
 // Rule is a decision rule. The zero Rule is guarded acceptance with k = 2.
