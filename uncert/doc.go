@@ -11,7 +11,7 @@
 //
 // where Σ_p is the 3×3 covariance of the point propagated from its polar
 // observation by the law of propagation of uncertainty (JCGM 100:2008
-// §5.1; clause from memory, formula confirmed in FIELD.md §2). The decision half (decide.go,
+// §5.1.2, confirmed). The decision half (decide.go,
 // needed.go) classifies a deviation d with uncertainty u against a
 // tolerance under a guarded-acceptance rule (ISO 14253-1) or simple
 // acceptance (ILAC G8:09/2019 §4.2.1), counts zones, derives patch

@@ -163,8 +163,8 @@ func (s *Setup) distSigma(r float64) float64 {
 // σ_S is the distance or, for a scanner, the incidence-inflated range σ,
 // and Σ_st the centring/height/station covariance. This is n̂ᵀ Σ_p n̂
 // with Σ_p = J·diag(σ_T², σ_Z², σ_S²)·Jᵀ + Σ_st (the law of propagation
-// of uncertainty for uncorrelated inputs, JCGM 100:2008 §5.1.2 — formula
-// confirmed as FIELD.md §2 records, clause number from memory) without
+// of uncertainty for uncorrelated inputs, JCGM 100:2008 §5.1.2 Eq. (10),
+// confirmed on the GUM's HTML edition at iso.org, clause 5) without
 // forming Σ_p. It does not allocate.
 //
 // n must be a unit vector; p is in site coordinates. The fit component is
@@ -274,8 +274,8 @@ func (s *Setup) Cov(p r3.Vec) Sym3 {
 // fitted reference surface contributes to a point's deviation, where
 // g = ∂d/∂θ (length p) is the deviation's gradient with respect to the fit
 // parameters at that point and cov is their p×p covariance, row-major
-// (the law of propagation for correlated inputs, JCGM 100:2008 §5.2.2 —
-// formula confirmed as FIELD.md §2 records, clause number from memory). Only the upper triangle of cov
+// (the law of propagation for correlated inputs, JCGM 100:2008 §5.2,
+// Eq. (13): confirmed, GUM HTML edition at iso.org, clause 5). Only the upper triangle of cov
 // is read. Combine it with the measurement as
 // math.Hypot(s.NormalU(pt, n), FitComponent(g, cov)), or store it in
 // PointU.C[Fit] for a budget.
