@@ -217,6 +217,7 @@ func FitSaddle(pts []r3.Vec, s *SaddleSettings) (*SaddleResult, error) {
 	sub := make([]r3.Vec, 0, n)
 	rng := rand.New(rand.NewPCG(set.Seed, 0x5ad)) // coarse subsampling only
 	var sol *Result
+	var prob *SaddleProblem
 	final := false
 	for round := 1; round <= 5; round++ {
 		res.Rounds = round
@@ -239,11 +240,15 @@ func FitSaddle(pts []r3.Vec, s *SaddleSettings) (*SaddleResult, error) {
 			}
 		}
 		var err error
-		cur, sol, err = solveSaddle(fitPts, nil, &cur, &lm)
+		cur, sol, prob, err = solveSaddle(fitPts, nil, &cur, &lm)
 		if err != nil {
 			return nil, err
 		}
 		signedDistances(resid, loc, &cur)
+		if final {
+			// The mask and threshold stay those of the points just solved.
+			break
+		}
 		if set.Threshold == 0 {
 			for i, d := range resid {
 				absd[i] = math.Abs(d)
@@ -258,9 +263,6 @@ func FitSaddle(pts []r3.Vec, s *SaddleSettings) (*SaddleResult, error) {
 				mask[i] = in
 			}
 		}
-		if final {
-			break
-		}
 		// Settled when under 0.1 % of the inliers change: one last solve
 		// on all inliers.
 		if changed*1000 <= cnt || round == 4 {
@@ -268,13 +270,6 @@ func FitSaddle(pts []r3.Vec, s *SaddleSettings) (*SaddleResult, error) {
 		}
 	}
 
-	// Final inlier set and points.
-	sub = sub[:0]
-	for i, in := range mask {
-		if in {
-			sub = append(sub, loc[i])
-		}
-	}
 	// 4. Optional IRLS.
 	var weights []float64
 	if res.Robust != "none" {
@@ -286,7 +281,7 @@ func FitSaddle(pts []r3.Vec, s *SaddleSettings) (*SaddleResult, error) {
 			signedDistances(dsub, sub, &cur)
 			irlsWeights(weights, dsub, res.Robust)
 			var err error
-			cur, sol, err = solveSaddle(sub, weights, &cur, &lm)
+			cur, sol, prob, err = solveSaddle(sub, weights, &cur, &lm)
 			if err != nil {
 				return nil, err
 			}
@@ -311,12 +306,12 @@ func FitSaddle(pts []r3.Vec, s *SaddleSettings) (*SaddleResult, error) {
 	}
 	res.NumOutliers = n - res.NumInliers
 	res.RMS = math.Sqrt(ss / float64(res.NumInliers))
-	if q, err := FitQuadric(sub); err == nil {
+	if q, err := FitQuadric(strided(sub, 1<<16)); err == nil {
 		res.Class = Classify(&q)
 	}
 
 	// 5. Uncertainty at the solution.
-	if err := res.uncertainty(sub, weights, &cur); err != nil {
+	if err := res.uncertainty(prob, sol.X); err != nil {
 		return nil, err
 	}
 	cur.Origin = r3.Add(cur.Origin, local)
@@ -331,17 +326,31 @@ func FitSaddle(pts []r3.Vec, s *SaddleSettings) (*SaddleResult, error) {
 }
 
 // solveSaddle runs Levenberg–Marquardt on the centred points from s, using
-// the normal-equation path for large sets.
-func solveSaddle(pts []r3.Vec, w []float64, s *deviation.Saddle, set *Settings) (deviation.Saddle, *Result, error) {
+// the normal-equation path for large sets. It returns the solution, the
+// solver result and the problem (whose frame holds the solution).
+func solveSaddle(pts []r3.Vec, w []float64, s *deviation.Saddle, set *Settings) (deviation.Saddle, *Result, *SaddleProblem, error) {
 	sp := NewSaddleProblem(pts, w, s)
 	r, err := LevenbergMarquardt(sp.Problem(len(pts) > normalThreshold), sp.X0(s), set)
 	if err != nil {
-		return *s, nil, err
+		return *s, nil, nil, err
 	}
 	if r.Status == MaxEvaluations || r.Status == NonFinite {
-		return *s, nil, fmt.Errorf("fit: saddle solve: %w", r.Status.Err())
+		return *s, nil, nil, fmt.Errorf("fit: saddle solve: %w", r.Status.Err())
 	}
-	return sp.Saddle(r.X), r, nil
+	return sp.Saddle(r.X), r, sp, nil
+}
+
+// strided returns at most max elements of pts, every k-th one.
+func strided(pts []r3.Vec, max int) []r3.Vec {
+	if len(pts) <= max {
+		return pts
+	}
+	k := len(pts) / max
+	out := make([]r3.Vec, 0, len(pts)/k+1)
+	for i := 0; i < len(pts); i += k {
+		out = append(out, pts[i])
+	}
+	return out
 }
 
 // normalThreshold is the number of points above which the saddle solve
@@ -419,27 +428,29 @@ func irlsWeights(w, d []float64, kind string) {
 // R·Exp(ω)·c, ∂o/∂t = R, ∂o/∂ω = R·[c]×; an axis direction turns by the
 // rotation components about the other two axes, so its angular variance is
 // the sum of those two variances.
-func (res *SaddleResult) uncertainty(pts []r3.Vec, w []float64, s *deviation.Saddle) error {
+func (res *SaddleResult) uncertainty(sp *SaddleProblem, x []float64) error {
 	const p = NumSaddlePar
-	sp := NewSaddleProblem(pts, w, s)
-	x := sp.X0(s)
-	f := make([]float64, len(pts))
-	sp.Func(f, x)
+	s := sp.Saddle(x)
+	x = sp.X0(&s)
+	sp.Accept(x) // ω = t = 0 at the solution; residuals unchanged
 	jtj := mat.NewSymDense(p, nil)
 	jtf := make([]float64, p)
-	sp.Normal(jtj, jtf, x)
-	nobs := len(pts)
+	sp.Normal(jtj, jtf, x) // evaluates the residuals unless cached
+	nobs := len(sp.Points)
 	res.DOF = nobs - p
 	ssr := 0.0
-	for _, v := range f {
-		ssr += v * v
+	for i, d := range sp.dist {
+		if sp.Weights != nil {
+			d *= math.Sqrt(sp.Weights[i])
+		}
+		ssr += d * d
 	}
 	// With IRLS weights the effective number of observations is Σwᵢ
 	// (common practice; it makes σ̂ comparable with the unweighted one).
 	neff := float64(nobs)
-	if w != nil {
+	if sp.Weights != nil {
 		neff = 0
-		for _, v := range w {
+		for _, v := range sp.Weights {
 			neff += v
 		}
 	}

@@ -308,13 +308,21 @@ func drawDistinct(rng *rand.Rand, idx []int, n int) {
 // unsigned distances e, from the starting threshold t0, to a fixed point
 // (at most 30 steps; it grows geometrically from a too-small start and
 // shrinks from a too-large one). It returns T and σ̂.
+//
+// For more than robustSample distances every k-th one is used, which
+// leaves a relative standard error of about 1.2/√robustSample ≈ 0.3 % in
+// σ̂ (the asymptotic efficiency of the MAD at the normal is 37 %).
 func robustThreshold(e []float64, t0, k float64) (T, sigma float64) {
 	T = t0
-	tmp := make([]float64, 0, len(e))
+	stride := 1
+	if len(e) > robustSample {
+		stride = len(e) / robustSample
+	}
+	tmp := make([]float64, 0, len(e)/stride+1)
 	for it := 0; it < 30; it++ {
 		tmp = tmp[:0]
-		for _, v := range e {
-			if v < T {
+		for i := 0; i < len(e); i += stride {
+			if v := e[i]; v < T {
 				tmp = append(tmp, v)
 			}
 		}
@@ -333,6 +341,9 @@ func robustThreshold(e []float64, t0, k float64) (T, sigma float64) {
 	}
 	return T, sigma
 }
+
+// robustSample bounds the number of distances robustThreshold looks at.
+const robustSample = 1 << 17
 
 // median returns the median of v, reordering v.
 func median(v []float64) float64 {

@@ -190,7 +190,7 @@ func (sp *SaddleProblem) ensure(x []float64) {
 func (sp *SaddleProblem) row(r []float64, i int, k1, k2 float64, c r3.Vec) {
 	y := sp.feet[i]
 	n := r3.Vec{X: -2 * k1 * y.X, Y: -2 * k2 * y.Y, Z: 1}
-	inv := 1 / r3.Norm(n)
+	inv := 1 / math.Sqrt(n.X*n.X+n.Y*n.Y+1)
 	w := r3.Scale(inv, r3.Cross(n, r3.Sub(y, c)))
 	r[ParK1] = -y.X * y.X * inv
 	r[ParK2] = -y.Y * y.Y * inv
