@@ -5,6 +5,7 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/spatial/r3"
+	"gopkg.in/yaml.v3"
 
 	"saddlecheck/uncert"
 )
@@ -56,4 +57,47 @@ func ExampleNeededU() {
 	fmt.Printf("a survey with u ≤ %.2f mm would decide %.0f%% of these\n", u*1e3, 100*share)
 	// Output:
 	// a survey with u ≤ 1.05 mm would decide 50% of these
+}
+
+// Decoding the `uncertainty:` section of a design file; errors carry the
+// file's line.
+func ExampleDecodeModel() {
+	src := `
+uncertainty:
+  instrument:
+    kind: total-station
+    angle_arcsec: 1
+    distance_mm: 1
+    distance_ppm: 1.5
+    stations:
+      - {id: S1, e: 1000, n: 2000, h: 50, instrument_height: 1.6}
+  control_mm: 2
+  decision: {rule: guarded, k: 2}
+`
+	var doc yaml.Node
+	if err := yaml.Unmarshal([]byte(src), &doc); err != nil {
+		fmt.Println(err)
+		return
+	}
+	section := doc.Content[0].Content[1] // the value of `uncertainty:`
+	m, err := uncert.DecodeModel(section)
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	s, _ := m.Setup("S1")
+	fmt.Println(s.ID, m.Rule().Name, m.Rule().K)
+
+	bad := `
+uncertainty:
+  instrument:
+    kind: total-station
+    angle_arcsec: -1
+`
+	_ = yaml.Unmarshal([]byte(bad), &doc)
+	_, err = uncert.DecodeModel(doc.Content[0].Content[1])
+	fmt.Println(err)
+	// Output:
+	// S1 guarded 2
+	// line 5: uncertainty.instrument.angle_arcsec: must be a finite number ≥ 0, got -1
 }
