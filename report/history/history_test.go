@@ -64,8 +64,8 @@ func sampleComparison() *Comparison {
 	temp := 14.5
 	return &Comparison{
 		Tool: "saddlecheck test", Generated: clock, Structure: "Lindqvist Park kiosk roof", DesignSHA: strings.Repeat("d", 64),
-		From: Epoch{ID: 1, Date: "2019-05-14", Instrument: "total station, 1 mm + 1.5 ppm", Operator: "A. Surveyor", Datum: "control", RegistrationMM: 1, PointsSHA256: strings.Repeat("a", 64), Points: 412},
-		To:   Epoch{ID: 2, Date: "2025-06-02", Instrument: "laser scanner", Operator: "B. Surveyor", Datum: "control", RegistrationMM: 1, TemperatureC: &temp, PointsSHA256: strings.Repeat("b", 64), Points: 1200000},
+		From:     Epoch{ID: 1, Date: "2019-05-14", Instrument: "total station, 1 mm + 1.5 ppm", Operator: "A. Surveyor", Datum: "control", RegistrationMM: 1, PointsSHA256: strings.Repeat("a", 64), Points: 412},
+		To:       Epoch{ID: 2, Date: "2025-06-02", Instrument: "laser scanner", Operator: "B. Surveyor", Datum: "control", RegistrationMM: 1, TemperatureC: &temp, PointsSHA256: strings.Repeat("b", 64), Points: 1200000},
 		Settings: set, Cores: cores, Summary: sum, Patches: []string{"north"},
 		NormalSource: "design surface normal at each core point",
 		Datum:        "Both epochs are placed on stable control: position, orientation and shape are tested.",
