@@ -259,3 +259,38 @@ func (p *BilinearPatch) contains(u, v float64) bool {
 }
 
 func clamp01(v float64) float64 { return math.Max(0, math.Min(1, v)) }
+
+// bounds returns a site-frame box containing every inside foot. The patch
+// itself lies in the convex hull of its corners (P(u,v) is a convex
+// combination of them on [0,1]²). A foot beyond the edges is
+// P(cu,cv) + δu(A + cv·D) + δv(B + cu·D) + δu·δv·D with (cu, cv) the
+// clamped parameters, |δu|·|A + cv·D| ≤ margin and |δv|·|B + cu·D| ≤
+// margin, so it lies within 2·margin + margin²·|D|/(minA·minB) of the
+// hull, minA and minB the least |A + vD| and |B + uD| over [0, 1].
+func (p *BilinearPatch) bounds() (lo, hi r3.Vec, ok bool) {
+	f := p.f
+	minA := segDistOrigin(f.a, r3.Add(f.a, f.d))
+	minB := segDistOrigin(f.b, r3.Add(f.b, f.d))
+	if !(minA > 0 && minB > 0) {
+		return lo, hi, false
+	}
+	m := p.MarginM
+	pad := 2*m + m*m*r3.Norm(f.d)/(minA*minB)
+	lo = r3.Vec{X: math.Inf(1), Y: math.Inf(1), Z: math.Inf(1)}
+	hi = r3.Scale(-1, lo)
+	for _, c := range p.corners {
+		lo, hi = boxUnion(lo, hi, c, c)
+	}
+	padV := r3.Vec{X: pad, Y: pad, Z: pad}
+	return r3.Sub(lo, padV), r3.Add(hi, padV), true
+}
+
+// segDistOrigin is the distance from the origin to the segment a–b.
+func segDistOrigin(a, b r3.Vec) float64 {
+	d := r3.Sub(b, a)
+	t := 0.0
+	if l2 := r3.Dot(d, d); l2 > 0 {
+		t = math.Max(0, math.Min(1, -r3.Dot(a, d)/l2))
+	}
+	return r3.Norm(r3.Add(a, r3.Scale(t, d)))
+}

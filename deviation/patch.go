@@ -137,3 +137,45 @@ func (p *SaddlePatch) Project(x r3.Vec) Projection {
 	pr.Inside = p.extent.contains(foot.X, foot.Y, p.MarginM)
 	return pr
 }
+
+// bounds returns a site-frame box containing every foot the patch counts
+// as inside: the local box of the plan extent grown by the margin, with
+// the range of K1x² + K2y² over it, mapped through the frame.
+func (p *SaddlePatch) bounds() (lo, hi r3.Vec, ok bool) {
+	e := &p.extent
+	x0, x1, y0, y1 := e[0][0], e[0][0], e[0][1], e[0][1]
+	for _, c := range e {
+		x0, x1 = math.Min(x0, c[0]), math.Max(x1, c[0])
+		y0, y1 = math.Min(y0, c[1]), math.Max(y1, c[1])
+	}
+	m := p.MarginM
+	x0, x1, y0, y1 = x0-m, x1+m, y0-m, y1+m
+	sq := func(a, b float64) (lo, hi float64) {
+		lo, hi = math.Min(a*a, b*b), math.Max(a*a, b*b)
+		if a <= 0 && b >= 0 {
+			lo = 0
+		}
+		return lo, hi
+	}
+	xl, xh := sq(x0, x1)
+	yl, yh := sq(y0, y1)
+	s := &p.Saddle
+	z0 := s.K1*xl + s.K2*yh
+	z1 := s.K1*xh + s.K2*yl
+	return localBoxToSite(s, [2]float64{x0, x1}, [2]float64{y0, y1}, [2]float64{z0, z1})
+}
+
+// localBoxToSite returns the site bounding box of a box in s's frame.
+func localBoxToSite(s *Saddle, xs, ys, zs [2]float64) (lo, hi r3.Vec, ok bool) {
+	lo = r3.Vec{X: math.Inf(1), Y: math.Inf(1), Z: math.Inf(1)}
+	hi = r3.Scale(-1, lo)
+	for _, x := range xs {
+		for _, y := range ys {
+			for _, z := range zs {
+				v := s.ToSite(r3.Vec{X: x, Y: y, Z: z})
+				lo, hi = boxUnion(lo, hi, v, v)
+			}
+		}
+	}
+	return lo, hi, true
+}

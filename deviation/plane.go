@@ -99,3 +99,24 @@ func (p *PlanePatch) Project(x r3.Vec) Projection {
 		Inside: p.extent.contains(fx, fy, p.MarginM),
 	}
 }
+
+// bounds returns a site-frame box containing every inside foot: the plan
+// box of the extent grown by the margin, in the plane.
+func (p *PlanePatch) bounds() (lo, hi r3.Vec, ok bool) {
+	e := &p.extent
+	x0, x1, y0, y1 := e[0][0], e[0][0], e[0][1], e[0][1]
+	for _, c := range e {
+		x0, x1 = math.Min(x0, c[0]), math.Max(x1, c[0])
+		y0, y1 = math.Min(y0, c[1]), math.Max(y1, c[1])
+	}
+	m := p.MarginM
+	lo = r3.Vec{X: math.Inf(1), Y: math.Inf(1), Z: math.Inf(1)}
+	hi = r3.Scale(-1, lo)
+	for _, x := range [2]float64{x0 - m, x1 + m} {
+		for _, y := range [2]float64{y0 - m, y1 + m} {
+			v := r3.Add(p.Origin, r3.Add(r3.Scale(x, p.axes[0]), r3.Scale(y, p.axes[1])))
+			lo, hi = boxUnion(lo, hi, v, v)
+		}
+	}
+	return lo, hi, true
+}
