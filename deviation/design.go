@@ -238,7 +238,9 @@ func contains(list []string, s string) bool {
 // within 2 edits (or a case or separator variant).
 func suggest(s string, allowed []string) string {
 	best, bd := "", 3
-	norm := func(x string) string { return strings.ReplaceAll(strings.ReplaceAll(strings.ToLower(x), "-", "_"), " ", "_") }
+	norm := func(x string) string {
+		return strings.ReplaceAll(strings.ReplaceAll(strings.ToLower(x), "-", "_"), " ", "_")
+	}
 	for _, a := range allowed {
 		if norm(a) == norm(s) {
 			return a
