@@ -28,6 +28,7 @@ func benchFit(b *testing.B, n int, s *SaddleSettings) {
 	pts, _ := synthPoints(&truth, workloadOptions(n, 0.12, 0.03, 42))
 	b.ReportAllocs()
 	b.ResetTimer()
+	cpu0 := cpuSeconds()
 	for i := 0; i < b.N; i++ {
 		res, err := FitSaddle(pts, s)
 		if err != nil {
@@ -38,4 +39,7 @@ func benchFit(b *testing.B, n int, s *SaddleSettings) {
 			b.ReportMetric(float64(res.Rounds), "rounds")
 		}
 	}
+	// CPU seconds per fit (user + system, all threads): on a shared
+	// machine this is steadier than wall time; wall ≈ cpu/2 on 2 idle cores.
+	b.ReportMetric((cpuSeconds()-cpu0)/float64(b.N), "cpu-s/op")
 }
