@@ -82,11 +82,13 @@ type NeededHist struct {
 }
 
 // NewNeededHist returns a histogram with bin width res covering [0, max)
-// (metres); for example res = 0.05 mm and max = the tolerance limit / k.
-// It panics unless 0 < res ≤ max and max/res ≤ 10⁷.
+// (metres). An inconclusive point has u* below its own u (else it would be
+// decided), so max = the largest u of the survey loses nothing; for
+// example res = 0.01 mm, max = 10 mm. It panics unless 0 < res ≤ max and
+// max/res ≤ 10⁶.
 func NewNeededHist(res, max float64) *NeededHist {
-	if !(res > 0 && max >= res && max/res <= 1e7) {
-		panic("uncert: NewNeededHist: need 0 < res ≤ max, max/res ≤ 1e7")
+	if !(res > 0 && max >= res && max/res <= 1e6) {
+		panic("uncert: NewNeededHist: need 0 < res ≤ max, max/res ≤ 1e6")
 	}
 	nb := int(math.Ceil(max/res - 1e-9))
 	return &NeededHist{res: res, bins: make([]int64, nb+1)}
