@@ -28,8 +28,10 @@ const (
 	// maxLeaf forces a split of larger leaves; SAH may stop earlier.
 	maxLeaf = 8
 	// sahTraversal is the cost of visiting a node relative to one
-	// triangle test (common practice: about 1).
-	sahTraversal = 1.0
+	// triangle test. A node visit is mostly a cache miss while the
+	// triangles of a leaf are contiguous, so 3 (measured: leaves of about
+	// five triangles, fewer nodes and misses than with 1).
+	sahTraversal = 3.0
 	// maxDepth bounds the build depth: below it splits fall back to the
 	// median of the longest centroid axis, which halves the count, so the
 	// depth never exceeds maxDepth + 32 < stackSize.
@@ -61,7 +63,9 @@ func (m *Mesh) buildHierarchy(local []r3.Vec, tris [][3]int32) {
 		idx[i] = int32(i)
 	}
 	b := builder{bt: bt, idx: idx, pad: boxPad * (ext + 1)}
-	b.nodes = make([]node, 1, 2*len(tris)/3+1)
+	// Node 1 is unused padding: sibling pairs then start at even
+	// indices, so each pair is one 64-byte cache line.
+	b.nodes = make([]node, 2, 2*len(tris)/3+2)
 	b.split(0, 0, int32(len(tris)), 0)
 	m.nodes = b.nodes
 	m.tri = make([]triangle, len(tris))
@@ -288,24 +292,15 @@ func up32(x float64) float32 {
 
 // boxDist2 is the squared distance from q to the box of nd (0 inside).
 func boxDist2(nd *node, q r3.Vec) float64 {
-	d := 0.0
-	if v := float64(nd.lo[0]) - q.X; v > 0 {
-		d += v * v
-	} else if v := q.X - float64(nd.hi[0]); v > 0 {
-		d += v * v
-	}
-	if v := float64(nd.lo[1]) - q.Y; v > 0 {
-		d += v * v
-	} else if v := q.Y - float64(nd.hi[1]); v > 0 {
-		d += v * v
-	}
-	if v := float64(nd.lo[2]) - q.Z; v > 0 {
-		d += v * v
-	} else if v := q.Z - float64(nd.hi[2]); v > 0 {
-		d += v * v
-	}
-	return d
+	dx := max(float64(nd.lo[0])-q.X, q.X-float64(nd.hi[0]), 0)
+	dy := max(float64(nd.lo[1])-q.Y, q.Y-float64(nd.hi[1]), 0)
+	dz := max(float64(nd.lo[2])-q.Z, q.Z-float64(nd.hi[2]), 0)
+	return dx*dx + dy*dy + dz*dz
 }
+
+// noTriangle marks a hit not yet found; larger than any index, so the
+// first candidate wins a tie even at infinite distance.
+const noTriangle = math.MaxInt32
 
 // hit is the closest triangle found so far.
 type hit struct {
@@ -336,7 +331,7 @@ func (m *Mesh) nearest(q r3.Vec) hit {
 	}
 	var stack [stackSize]entry
 	sp := 0
-	best := hit{d2: math.Inf(1), tri: -1, feat: noFeature}
+	best := hit{d2: math.Inf(1), tri: noTriangle, feat: noFeature}
 	n := int32(0)
 	for {
 		nd := &m.nodes[n]
@@ -374,7 +369,7 @@ func (m *Mesh) nearest(q r3.Vec) hit {
 
 // nearestBrute scans every triangle (the test reference for nearest).
 func (m *Mesh) nearestBrute(q r3.Vec) hit {
-	best := hit{d2: math.Inf(1), tri: -1, feat: noFeature}
+	best := hit{d2: math.Inf(1), tri: noTriangle, feat: noFeature}
 	for t := range m.tri {
 		best.consider(q, int32(t), &m.tri[t])
 	}

@@ -175,12 +175,14 @@ func New(vertices []r3.Vec, tris [][3]int32, opt Options) (*Mesh, *Report, error
 
 func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
 
+// minVec and maxVec are componentwise; the inputs are finite (New
+// checks), so the builtin min and max need no NaN care.
 func minVec(a, b r3.Vec) r3.Vec {
-	return r3.Vec{X: math.Min(a.X, b.X), Y: math.Min(a.Y, b.Y), Z: math.Min(a.Z, b.Z)}
+	return r3.Vec{X: min(a.X, b.X), Y: min(a.Y, b.Y), Z: min(a.Z, b.Z)}
 }
 
 func maxVec(a, b r3.Vec) r3.Vec {
-	return r3.Vec{X: math.Max(a.X, b.X), Y: math.Max(a.Y, b.Y), Z: math.Max(a.Z, b.Z)}
+	return r3.Vec{X: max(a.X, b.X), Y: max(a.Y, b.Y), Z: max(a.Z, b.Z)}
 }
 
 func countUsed(nv int, vid [][3]int32) int {

@@ -319,4 +319,10 @@ func TestProjectDoesNotAllocate(t *testing.T) {
 	if n := testing.AllocsPerRun(100, func() { m.Project(p) }); n != 0 {
 		t.Fatalf("got %v allocations per Project, want 0", n)
 	}
+	if pr := m.Project(r3.Vec{X: math.NaN()}); !math.IsNaN(pr.D) || pr.Inside {
+		t.Errorf("NaN point: got %+v, want D NaN, Inside false", pr)
+	}
+	if pr := m.Project(r3.Add(siteOffset, r3.Vec{Z: 1e7})); math.Abs(pr.D-(1e7-1)) > 1e-6 {
+		t.Errorf("far point: got D %v, want %v", pr.D, 1e7-1)
+	}
 }

@@ -26,7 +26,8 @@ import (
 // unless the part of p − Foot tangential to the closest triangle is
 // shorter than Options.MarginM.
 //
-// Project allocates nothing and is safe for concurrent use.
+// A NaN coordinate gives D = NaN and Inside = false. Project allocates
+// nothing and is safe for concurrent use.
 func (m *Mesh) Project(p r3.Vec) deviation.Projection {
 	q := r3.Sub(p, m.centre)
 	h := m.nearest(q)
@@ -34,6 +35,11 @@ func (m *Mesh) Project(p r3.Vec) deviation.Projection {
 }
 
 func (m *Mesh) projection(q r3.Vec, h hit) deviation.Projection {
+	if h.tri == noTriangle { // q is NaN
+		nan := math.NaN()
+		v := r3.Vec{X: nan, Y: nan, Z: nan}
+		return deviation.Projection{D: nan, Foot: v, Normal: v}
+	}
 	t := h.tri
 	tr := &m.tri[t]
 	nf := r3.Unit(r3.Cross(r3.Sub(tr.b, tr.a), r3.Sub(tr.c, tr.a)))
