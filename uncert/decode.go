@@ -47,6 +47,7 @@ func (e *LineError) Error() string {
 //	  max_incidence_deg: 75      # scanner: inflation cap, flagged beyond
 //	  centring_mm: 0.5           # instrument and target centring, common
 //	  target_height_mm: 0.5      # instrument and target heights, common
+//	  target_height: 1.8         # total station: prism above the point, m
 //	  sigma_mm: 3                # plain: per-point σ along the normal
 //	  stations:                  # total station / scanner: at least one
 //	    - id: S1                 # required when there are several

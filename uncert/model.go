@@ -109,6 +109,10 @@ type Instrument struct {
 	// TargetHeightMM is the standard deviation of the measured instrument
 	// and target heights together, vertical, common to a setup.
 	TargetHeightMM float64 `yaml:"target_height_mm,omitempty"`
+	// TargetHeight is the height of the prism above the measured point,
+	// metres (total station; 0 for reflectorless shots): the polar
+	// observation is reconstructed to the prism, not to the point.
+	TargetHeight float64 `yaml:"target_height,omitempty"`
 
 	// SigmaMM is the plain per-file standard uncertainty along the normal
 	// (KindPlain only), mm.
@@ -205,6 +209,7 @@ func (m *Model) validate() *fieldError {
 		{"centring_mm", in.CentringMM, []Kind{ts, sc}},
 		{"target_height_mm", in.TargetHeightMM, []Kind{ts, sc}},
 		{"sigma_mm", in.SigmaMM, []Kind{pl}},
+		{"target_height", in.TargetHeight, []Kind{ts}},
 	}
 	switch in.Kind {
 	case ts, sc, pl:
@@ -396,6 +401,7 @@ func (m *Model) Setups() ([]Setup, error) {
 		s := base
 		s.ID = st.ID
 		s.origin = r3.Vec{X: st.E, Y: st.N, Z: st.H + st.InstrumentHeight}
+		s.ref = r3.Vec{X: s.origin.X, Y: s.origin.Y, Z: s.origin.Z - in.TargetHeight}
 		x2 := sq(st.SigmaMM * mm)
 		s.station = Sym3{XX: c2 + x2, YY: c2 + x2, ZZ: h2 + x2}
 		out[i] = s

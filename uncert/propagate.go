@@ -84,6 +84,10 @@ type Setup struct {
 	polar   bool // a total station or scanner (else a plain model)
 	scanner bool
 	origin  r3.Vec // instrument centre
+	// ref is the instrument centre lowered by the target height: the
+	// vector from ref to a measured point equals the vector from the
+	// instrument centre to the target that observed it.
+	ref r3.Vec
 
 	varT, varZ   float64 // per-point angle variances, rad²
 	varO         float64 // orientation variance (common), rad²
@@ -111,7 +115,7 @@ func (s *Setup) Kind() Kind { return s.kind }
 // (n_E² + n_N²)·dz²; with r = 0 the distance error is taken in the
 // direction of n (gS = 1).
 func (s *Setup) columns(p, n r3.Vec) (gT, gZ, gS, r float64) {
-	dx, dy, dz := p.X-s.origin.X, p.Y-s.origin.Y, p.Z-s.origin.Z
+	dx, dy, dz := p.X-s.ref.X, p.Y-s.ref.Y, p.Z-s.ref.Z
 	h2 := dx*dx + dy*dy
 	h := math.Sqrt(h2)
 	r = math.Sqrt(h2 + dz*dz)
@@ -176,7 +180,7 @@ func (s *Setup) NormalU(p, n r3.Vec) float64 {
 	// The same sum as Eval, arranged for the hot path (one square root for
 	// the slope distance, one division): with hn = n_E·dx + n_N·dy and
 	// sd = n·d, g_Z² = (dz·hn − n_H·h²)²/h² and g_S² = sd²/r².
-	dx, dy, dz := p.X-s.origin.X, p.Y-s.origin.Y, p.Z-s.origin.Z
+	dx, dy, dz := p.X-s.ref.X, p.Y-s.ref.Y, p.Z-s.ref.Z
 	h2 := dx*dx + dy*dy
 	r2 := h2 + dz*dz
 	gT := n.X*dy - n.Y*dx
@@ -255,7 +259,7 @@ func (s *Setup) Cov(p r3.Vec) Sym3 {
 	if !s.polar {
 		return c
 	}
-	d := r3.Sub(p, s.origin)
+	d := r3.Sub(p, s.ref)
 	h := math.Hypot(d.X, d.Y)
 	r := r3.Norm(d)
 	sig := s.distSigma(r)

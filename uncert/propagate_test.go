@@ -362,6 +362,24 @@ func TestEvalMatchesNormalU(t *testing.T) {
 	}
 }
 
+// TestTargetHeight: with a prism t_h above the point, the observation is
+// the one to the prism, so u at point p equals u without target height at
+// the prism p + t_h·ẑ (a translation identity).
+func TestTargetHeight(t *testing.T) {
+	m := bigModel()
+	s0 := mustSetup(t, m)
+	m.Instrument.TargetHeight = 1.8
+	s1 := mustSetup(t, m)
+	prism := FromPolar(s0.Origin(), Polar{T: deg(20), Z: deg(70), S: 15})
+	point := r3.Sub(prism, r3.Vec{Z: 1.8})
+	n := r3.Unit(r3.Vec{X: 1, Z: 1})
+	near(t, "u", s1.NormalU(point, n), s0.NormalU(prism, n), tolExact)
+	if d := math.Abs(s1.NormalU(point, n) - s0.NormalU(point, n)); d < 1e-7 {
+		t.Errorf("target height changed u by only %g m: the geometry was not used", d)
+	}
+	near(t, "Cov", s1.Cov(point).XX, s0.Cov(prism).XX, tolExact)
+}
+
 // TestPlain: a plain model's u is the root-sum-square of its stated parts.
 func TestPlain(t *testing.T) {
 	m := Model{Instrument: Instrument{Kind: KindPlain, SigmaMM: 3}, ControlMM: 4}
