@@ -144,7 +144,7 @@ func TestCovMonteCarlo(t *testing.T) {
 	sH := math.Hypot(in.CentringMM, in.Stations[0].SigmaMM) * mm
 	sV := math.Hypot(in.TargetHeightMM, in.Stations[0].SigmaMM) * mm
 	const draws = 100000
-	var sum, sumN float64
+	var meanN float64
 	var ss [3]float64
 	var ssN float64
 	var mean [3]float64
@@ -157,19 +157,18 @@ func TestCovMonteCarlo(t *testing.T) {
 		mean[0] += d.X
 		mean[1] += d.Y
 		mean[2] += d.Z
-		sumN += r3.Dot(n, d)
+		meanN += r3.Dot(n, d)
 	}
 	for k := range mean {
 		mean[k] /= draws
 	}
-	sumN /= draws
+	meanN /= draws
 	for _, d := range devs {
 		ss[0] += sq(d.X - mean[0])
 		ss[1] += sq(d.Y - mean[1])
 		ss[2] += sq(d.Z - mean[2])
-		ssN += sq(r3.Dot(n, d) - sumN)
+		ssN += sq(r3.Dot(n, d) - meanN)
 	}
-	_ = sum
 	c := s.Cov(p0)
 	for k, want := range []float64{c.XX, c.YY, c.ZZ} {
 		got := ss[k] / (draws - 1)
