@@ -148,7 +148,7 @@ func newCSV(src io.Reader, path string, opt Options) (*csvReader, error) {
 		r.pending = append(r.pending, sampled{r.lineNo, bytes.Clone(line)})
 	}
 	if first == nil {
-		return nil, &ParseError{Path: path, Line: int(r.lineNo), Err: errors.New("no data lines (the file is empty or only comments)")}
+		return nil, &ParseError{Path: path, Line: int(max(1, r.lineNo)), Err: errors.New("no data lines (the file is empty or only comments)")}
 	}
 	lines := make([][]byte, len(r.pending))
 	for i, s := range r.pending {
