@@ -22,11 +22,17 @@ type Split struct {
 	OffsetU float64 `json:"offset_u_m"` // standard uncertainty from the fit covariance
 	// Tilt is the angle between the design normal at DesignFoot and the
 	// as-built normal where that normal line meets the as-built surface.
-	Tilt         float64    `json:"tilt_rad"`
-	DesignFoot   r3.Vec     `json:"-"`
-	AsBuiltPoint r3.Vec     `json:"-"`
-	K1           ShapeDelta `json:"k1_delta"`
-	K2           ShapeDelta `json:"k2_delta"`
+	Tilt         float64 `json:"tilt_rad"`
+	DesignFoot   r3.Vec  `json:"-"`
+	AsBuiltPoint r3.Vec  `json:"-"`
+	// LocalRMS and LocalMax are what is left after placement and shape:
+	// the RMS and the largest absolute residual of the inliers to the
+	// as-built surface (per-point values in SaddleResult.Residuals).
+	LocalRMS float64 `json:"local_rms_m"`
+	LocalMax float64 `json:"local_max_m"`
+
+	K1 ShapeDelta `json:"k1_delta"`
+	K2 ShapeDelta `json:"k2_delta"`
 }
 
 // ShapeDelta is an as-built minus design coefficient with the as-built
@@ -45,7 +51,8 @@ type ShapeDelta struct {
 //	           the centroid on the design, found by Newton's method on
 //	           s ↦ d_as-built(F + s·n_d) (3–5 steps), and the tilt between
 //	           the normals there;
-//	shape:     ΔK1, ΔK2 with the fit's standard uncertainties.
+//	shape:     ΔK1, ΔK2 with the fit's standard uncertainties;
+//	local:     the inlier residuals to the as-built surface.
 //
 // The offset's uncertainty is √(g·C·gᵀ)/|n_a·n_d|, g the derivative of the
 // orthogonal distance of the as-built point with respect to the fit
@@ -94,6 +101,12 @@ func CompareToDesign(design *deviation.Saddle, asBuilt *SaddleResult, centroid r
 		v := mat.Inner(gv, asBuilt.ParCov, gv)
 		if den := math.Abs(r3.Dot(na, nd)); den > 0 && v >= 0 {
 			sp.OffsetU = math.Sqrt(v) / den
+		}
+	}
+	sp.LocalRMS = asBuilt.RMS
+	for i, d := range asBuilt.Residuals {
+		if i < len(asBuilt.Inliers) && asBuilt.Inliers[i] {
+			sp.LocalMax = math.Max(sp.LocalMax, math.Abs(d))
 		}
 	}
 	sp.K1 = shapeDelta(asBuilt.K1, design.K1)

@@ -2,17 +2,18 @@ package fit
 
 import (
 	"encoding/json"
+	"math"
 
 	"gonum.org/v1/gonum/mat"
 )
 
 // saddleJSON is the JSON form of SaddleResult (the fit.json schema).
 type saddleJSON struct {
-	K1               Estimate       `json:"k1"`
-	K2               Estimate       `json:"k2"`
+	K1               estimateJSON   `json:"k1"`
+	K2               estimateJSON   `json:"k2"`
 	Origin           originJSON     `json:"origin"`
 	Axes             [3][3]float64  `json:"axes"`
-	AxesURad         [3]float64     `json:"axes_u_rad"`
+	AxesURad         [3]jf          `json:"axes_u_rad"`
 	RMSMM            float64        `json:"rms_mm"`
 	SigmaMM          float64        `json:"sigma_mm"`
 	ThresholdMM      float64        `json:"threshold_mm"`
@@ -22,7 +23,7 @@ type saddleJSON struct {
 	Quadric          quadricJSON    `json:"quadric"`
 	Solver           solverJSON     `json:"solver"`
 	Covariance       covarianceJSON `json:"covariance"`
-	Correlation      [][]float64    `json:"correlation"`
+	Correlation      [][]jf         `json:"correlation"`
 	Intervals        intervalsJSON  `json:"intervals"`
 	Pivot            [3]float64     `json:"pivot"`
 	Seed             uint64         `json:"seed"`
@@ -31,11 +32,34 @@ type saddleJSON struct {
 	Robust           robustJSON     `json:"robust"`
 }
 
+// jf is a float64 that is written as null when it is NaN or infinite,
+// which JSON cannot carry.
+type jf float64
+
+func (v jf) MarshalJSON() ([]byte, error) {
+	f := float64(v)
+	if math.IsNaN(f) || math.IsInf(f, 0) {
+		return []byte("null"), nil
+	}
+	return json.Marshal(f)
+}
+
+type estimateJSON struct {
+	Value jf `json:"value"`
+	U     jf `json:"u"`
+	Lo95  jf `json:"lo95"`
+	Hi95  jf `json:"hi95"`
+}
+
+func estJSON(e Estimate) estimateJSON {
+	return estimateJSON{jf(e.Value), jf(e.U), jf(e.Lo95), jf(e.Hi95)}
+}
+
 type originJSON struct {
 	Value [3]float64 `json:"value"`
-	U     [3]float64 `json:"u"`
-	Lo95  [3]float64 `json:"lo95"`
-	Hi95  [3]float64 `json:"hi95"`
+	U     [3]jf      `json:"u"`
+	Lo95  [3]jf      `json:"lo95"`
+	Hi95  [3]jf      `json:"hi95"`
 }
 
 type quadricJSON struct {
@@ -53,10 +77,10 @@ type solverJSON struct {
 }
 
 type covarianceJSON struct {
-	Params    []string    `json:"params"`
-	Matrix    [][]float64 `json:"matrix"`
-	OriginXYZ [][]float64 `json:"origin_xyz"`
-	Note      string      `json:"note"`
+	Params    []string `json:"params"`
+	Matrix    [][]jf   `json:"matrix"`
+	OriginXYZ [][]jf   `json:"origin_xyz"`
+	Note      string   `json:"note"`
 }
 
 type intervalsJSON struct {
@@ -77,9 +101,11 @@ type robustJSON struct {
 // quadric class, the solver status, the parameter covariance (names in
 // "params": k1, k2 in 1/m; rot_x…rot_z in rad; t_x…t_z in m, local frame
 // about the pivot), the correlation matrix and the interval definition.
+// Uncertainties that are not finite (an undetermined parameter) are
+// written as null.
 func (r *SaddleResult) MarshalJSON() ([]byte, error) {
 	j := saddleJSON{
-		K1: r.K1, K2: r.K2,
+		K1: estJSON(r.K1), K2: estJSON(r.K2),
 		RMSMM: 1e3 * r.RMS, SigmaMM: 1e3 * r.Sigma, ThresholdMM: 1e3 * r.Threshold,
 		Inliers: r.NumInliers, Outliers: r.NumOutliers,
 		QuadricClass: r.Class.Kind.String(),
@@ -89,16 +115,16 @@ func (r *SaddleResult) MarshalJSON() ([]byte, error) {
 		Intervals:    intervalsJSON{Level: 0.95, T: r.TQuantile, DOF: r.DOF},
 		Pivot:        [3]float64{r.Pivot.X, r.Pivot.Y, r.Pivot.Z},
 		Seed:         r.Seed, RANSACIterations: r.RANSACIterations, Rounds: r.Rounds,
-		Robust:   robustJSON{Method: r.Robust, Iterations: r.IRLSIterations},
-		AxesURad: r.AxesU,
+		Robust: robustJSON{Method: r.Robust, Iterations: r.IRLSIterations},
 	}
 	for i := 0; i < 3; i++ {
 		a := r.Saddle.Axes[i]
 		j.Axes[i] = [3]float64{a.X, a.Y, a.Z}
 		j.Origin.Value[i] = r.Origin[i].Value
-		j.Origin.U[i] = r.Origin[i].U
-		j.Origin.Lo95[i] = r.Origin[i].Lo95
-		j.Origin.Hi95[i] = r.Origin[i].Hi95
+		j.Origin.U[i] = jf(r.Origin[i].U)
+		j.Origin.Lo95[i] = jf(r.Origin[i].Lo95)
+		j.Origin.Hi95[i] = jf(r.Origin[i].Hi95)
+		j.AxesURad[i] = jf(r.AxesU[i])
 	}
 	j.Covariance = covarianceJSON{
 		Params:    SaddleParamNames[:],
@@ -110,16 +136,16 @@ func (r *SaddleResult) MarshalJSON() ([]byte, error) {
 }
 
 // symRows returns the rows of a symmetric matrix (nil for nil).
-func symRows(s *mat.SymDense) [][]float64 {
+func symRows(s *mat.SymDense) [][]jf {
 	if s == nil {
 		return nil
 	}
 	n := s.SymmetricDim()
-	rows := make([][]float64, n)
+	rows := make([][]jf, n)
 	for i := range rows {
-		rows[i] = make([]float64, n)
+		rows[i] = make([]jf, n)
 		for k := range rows[i] {
-			rows[i][k] = s.At(i, k)
+			rows[i][k] = jf(s.At(i, k))
 		}
 	}
 	return rows

@@ -55,7 +55,9 @@ type RANSACSettings struct {
 	MaxIterations int
 	// ScoreSample is the number of points, drawn at random once, on which
 	// hypotheses are scored; the winner is verified on all points. Zero
-	// means 4096; negative means score on all points.
+	// means 4096 (the inlier fraction of a hypothesis is then known to
+	// about ±1 %, enough to rank hypotheses and to size N); negative means
+	// score on all points. Values below 10 samples' worth are raised to it.
 	ScoreSample int
 	// Seed seeds the default random source, a PCG. Zero means DefaultSeed.
 	Seed uint64
@@ -144,6 +146,9 @@ func RANSAC[H any](m SampleModel[H], pts []r3.Vec, s *RANSACSettings) (*RANSACRe
 		return nil, fmt.Errorf("%w: %d points, the model needs %d", ErrTooFewPoints, n, k)
 	}
 
+	if set.ScoreSample > 0 && set.ScoreSample < 10*k {
+		set.ScoreSample = 10 * k
+	}
 	// Scoring subsample (drawn with replacement; duplicates do no harm).
 	sub := pts
 	if set.ScoreSample > 0 && n > set.ScoreSample {

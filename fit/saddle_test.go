@@ -93,3 +93,24 @@ func TestSaddleAcceptKeepsResiduals(t *testing.T) {
 		}
 	}
 }
+
+// TestSaddleNoPerPointAlloc: evaluating residuals and normal equations
+// allocates the same for 1000 and 8000 points (nothing per point).
+func TestSaddleNoPerPointAlloc(t *testing.T) {
+	allocs := func(n int) float64 {
+		pts, truth, _ := centredTruth(workloadOptions(n, 0, 0, 6))
+		sp := NewSaddleProblem(pts, nil, &truth)
+		x := sp.X0(&truth)
+		f := make([]float64, n)
+		jtj := mat.NewSymDense(NumSaddlePar, nil)
+		jtf := make([]float64, NumSaddlePar)
+		return testing.AllocsPerRun(5, func() {
+			x[ParT3] += 1e-6 // defeat the cache
+			sp.Func(f, x)
+			sp.Normal(jtj, jtf, x)
+		})
+	}
+	if a, b := allocs(1000), allocs(8000); a != b {
+		t.Errorf("allocations: %v for 1000 points, %v for 8000", a, b)
+	}
+}
