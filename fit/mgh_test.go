@@ -13,8 +13,13 @@ import (
 // its standard starting point and published minimum of Σfᵢ². The function
 // definitions, starting points and minima were checked against the
 // documentation of the R package funconstrain (jlmelville/funconstrain,
-// files R/NN_*.R), which transcribes the paper; entries marked "from
-// memory" could not be confirmed there.
+// files R/NN_*.R, which transcribes the paper) for Freudenstein–Roth,
+// Powell badly scaled, Jennrich–Sampson, Bard, Gaussian, Meyer and
+// Brown–Dennis. The zero minima of Rosenbrock, Brown badly scaled, Beale,
+// helical valley, Box 3-D, Powell singular and Wood are analytic (the
+// residuals vanish at the stated point). Kowalik–Osborne's 3.07505e-4 is
+// from memory, and agrees with the NIST StRD certified RSS of MGH09
+// (3.0750560385E-04), the same model and data.
 type mghProblem struct {
 	name string
 	m    int
