@@ -113,6 +113,7 @@ func BenchmarkBudgetAdd(b *testing.B) {
 	e := s.Eval(p, r3.Vec{Z: 1})
 	var st BudgetStats
 	b.ReportAllocs()
+	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
 		st.Add(&e)
 	}

@@ -129,6 +129,7 @@ func TestNeededHist(t *testing.T) {
 func BenchmarkNeededHistAdd(b *testing.B) {
 	h := NewNeededHist(0.00005, 0.005)
 	b.ReportAllocs()
+	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
 		h.Add(float64(i%400)*5e-5, 0.01, 2)
 	}
