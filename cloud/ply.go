@@ -416,9 +416,9 @@ func (r *plyReader) skipElement(e *plyElement) error {
 // that is no number comes back as NaN with a nil error.
 func (r *plyReader) value(e *plyElement, i int64, p *plyProp) (float64, error) {
 	if p.countTyp == tNone {
-		return r.scalar(e, i, p, p.typ)
+		return r.scalar(e, i, p, p.typ, false)
 	}
-	v, err := r.scalar(e, i, p, p.countTyp)
+	v, err := r.scalar(e, i, p, p.countTyp, true)
 	if err != nil {
 		return 0, err
 	}
@@ -428,7 +428,7 @@ func (r *plyReader) value(e *plyElement, i int64, p *plyProp) (float64, error) {
 	n := int64(v)
 	if r.enc == plyASCII {
 		for k := int64(0); k < n; k++ {
-			if _, err := r.scalar(e, i, p, p.typ); err != nil {
+			if _, err := r.scalar(e, i, p, p.typ, false); err != nil {
 				return 0, err
 			}
 		}
@@ -443,8 +443,9 @@ func (r *plyReader) value(e *plyElement, i int64, p *plyProp) (float64, error) {
 	return v, nil
 }
 
-// scalar reads one value of type t.
-func (r *plyReader) scalar(e *plyElement, i int64, p *plyProp, t plyType) (float64, error) {
+// scalar reads one value of type t; count marks a list count, which must
+// be a number in ascii.
+func (r *plyReader) scalar(e *plyElement, i int64, p *plyProp, t plyType, count bool) (float64, error) {
 	if r.enc == plyASCII {
 		tok, err := r.token()
 		if err != nil {
@@ -452,7 +453,7 @@ func (r *plyReader) scalar(e *plyElement, i int64, p *plyProp, t plyType) (float
 		}
 		v, err := strconv.ParseFloat(string(tok), 64)
 		if err != nil && !errors.Is(err, strconv.ErrRange) {
-			if p.countTyp != tNone {
+			if count {
 				return 0, r.errf(r.off-int64(len(tok)), nil, "%s record %d: list %s has count %q", e.name, i+1, p.name, tok)
 			}
 			r.nonNum = true

@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"runtime"
 	"strconv"
 	"strings"
 	"testing"
@@ -461,5 +462,56 @@ func TestScanEmptyBounds(t *testing.T) {
 	}
 	if s.Count != 1 || s.Rejected != 1 || s.Min != (r3.Vec{}) || s.Max != (r3.Vec{}) {
 		t.Errorf("got %+v", s)
+	}
+}
+
+// TestPLYStreamsInBoundedMemory checks that reading a binary PLY allocates
+// a bounded amount whatever the file size: the reader must stream, never
+// hold the file. 400,000 vertices of 25 bytes are a 10 MB file; one chunk
+// of DefaultChunk records with its buffers needs about 2.2 MB (24 + 8 + 8 +
+// 16 bytes per record plus a 256 KiB read block).
+func TestPLYStreamsInBoundedMemory(t *testing.T) {
+	if testing.Short() {
+		t.Skip("writes a 10 MB file")
+	}
+	const n = 400000
+	var b bytes.Buffer
+	b.WriteString("ply\nformat binary_little_endian 1.0\nelement vertex " + strconv.Itoa(n) +
+		"\nproperty double x\nproperty double y\nproperty double z\nproperty uchar intensity\nend_header\n")
+	var rec [25]byte
+	for i := 0; i < n; i++ {
+		binary.LittleEndian.PutUint64(rec[0:], math.Float64bits(float64(i)))
+		b.Write(rec[:])
+	}
+	path := writeFile(t, "big.ply", b.Bytes())
+	b = bytes.Buffer{}
+	r, err := Open(path, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer r.Close()
+	var c Chunk
+	var before, after runtime.MemStats
+	runtime.ReadMemStats(&before)
+	got := 0
+	for {
+		err := r.Read(&c, 0)
+		if errors.Is(err, io.EOF) {
+			break
+		}
+		if err != nil {
+			t.Fatal(err)
+		}
+		if c.P[c.Len()-1].X != float64(got+c.Len()-1) {
+			t.Fatalf("record %d: got x = %v", got+c.Len(), c.P[c.Len()-1].X)
+		}
+		got += c.Len()
+	}
+	runtime.ReadMemStats(&after)
+	if got != n {
+		t.Fatalf("read %d records, want %d", got, n)
+	}
+	if alloc := after.TotalAlloc - before.TotalAlloc; alloc > 4<<20 {
+		t.Errorf("reading a %d-byte file allocated %d bytes, want < 4 MiB", 25*n, alloc)
 	}
 }
