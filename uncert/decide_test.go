@@ -87,6 +87,30 @@ func TestDecideGuardBandExample(t *testing.T) {
 	}
 }
 
+// TestFalseAcceptRisk checks the risks the guidance documents quote for the
+// two rules, with the normal model of ConformanceProb: a guard band w = U
+// (k = 2) keeps the probability of false acceptance below 2.5 % at the
+// acceptance limit (confirmed: SGS decision-rule page quoting ILAC
+// G8:09/2019 "Probability of False Acceptance < 2.5%"; calibrationos.com
+// guard-banding page "around 2.5%"), and simple acceptance reaches 50 % at
+// the tolerance limit (confirmed: tuv.com decision-rule page on ILAC
+// G8:09/2019, "as high as 50%"). One-sided: 1 − Φ(2) = 2.275 %.
+func TestFalseAcceptRisk(t *testing.T) {
+	const limit, u = 10.0, 1.0
+	d := limit - 2*u // last conforming value under guarded k = 2
+	if Decide(d, u, limit, guarded2) != Conforming {
+		t.Fatalf("d = %g should conform", d)
+	}
+	pfa := 1 - ConformanceProb(d, u, -limit, limit)
+	if !(pfa < 0.025) || math.Abs(pfa-0.02275) > 0.00001 {
+		t.Errorf("guarded: PFA at the acceptance limit %.5f, want 0.02275 (< 2.5 %%)", pfa)
+	}
+	if Decide(limit, u, limit, Rule{Name: RuleSimple}) != Conforming {
+		t.Fatal("simple acceptance: d = limit should pass")
+	}
+	near(t, "simple PFA at the limit", 1-ConformanceProb(limit, u, -limit, limit), 0.5, 1e-12)
+}
+
 // TestDecideBoundaries uses binary-exact values so the equalities are
 // exact: |d| + k·u == limit conforms; |d| − k·u == limit is inconclusive.
 func TestDecideBoundaries(t *testing.T) {
