@@ -1,7 +1,9 @@
 package fit
 
 import (
+	"errors"
 	"math"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/spatial/r3"
@@ -63,6 +65,36 @@ func TestFitSaddleRecovery(t *testing.T) {
 				t.Errorf("K: got (%g, %g) ± (%g, %g), want (%g, %g)", res.K1.Value, res.K2.Value, res.K1.U, res.K2.U, truth.K1, truth.K2)
 			}
 			saddleClose(t, &res.Saddle, &truth, 1e-3, 1e-3, 0.001, workloadPatch)
+		})
+	}
+}
+
+// TestFitSaddleErrors maps invalid inputs to their errors.
+func TestFitSaddleErrors(t *testing.T) {
+	truth := synthSaddle()
+	good, _ := synthPoints(&truth, workloadOptions(200, 0, 0, 9))
+	nan := append([]r3.Vec(nil), good...)
+	nan[7].Y = math.NaN()
+	bad := truth
+	bad.K1 = -1
+	tests := []struct {
+		name string
+		pts  []r3.Vec
+		set  *SaddleSettings
+		want error
+		sub  string
+	}{
+		{"too few points", good[:5], nil, ErrTooFewPoints, "5 points"},
+		{"NaN coordinate", nan, nil, ErrNotFinitePoint, "point 7"},
+		{"unknown robust", good, &SaddleSettings{Robust: "cauchy"}, ErrRobust, "cauchy"},
+		{"invalid start", good, &SaddleSettings{Start: &bad}, deviation.ErrCurvatureSign, "start"},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			_, err := FitSaddle(tc.pts, tc.set)
+			if !errors.Is(err, tc.want) || !strings.Contains(err.Error(), tc.sub) {
+				t.Errorf("got %v, want %v containing %q", err, tc.want, tc.sub)
+			}
 		})
 	}
 }

@@ -477,11 +477,15 @@ func NearestSaddle(q *Quadric, up r3.Vec) (deviation.Saddle, error) {
 	// change x² or y²).
 	_ = ay
 	originN := r3.Add(r3.Add(r3.Scale(w0[0], v3), r3.Scale(w0[1], cl.vecE[1])), r3.Scale(w0[2], cl.vecE[2]))
-	return deviation.Saddle{
+	s := deviation.Saddle{
 		K1: k1, K2: k2,
 		Origin: r3.Add(q.Centre, r3.Scale(q.Scale, originN)),
 		Axes:   [3]r3.Vec{ax, r3.Cross(zAxis, ax), zAxis},
-	}, nil
+	}
+	if err := s.Validate(); err != nil {
+		return deviation.Saddle{}, fmt.Errorf("%w: %v", ErrDegenerate, err)
+	}
+	return s, nil
 }
 
 // perpendicular returns a unit vector perpendicular to the unit vector n.
