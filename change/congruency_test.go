@@ -3,6 +3,7 @@ package change
 import (
 	"math"
 	"math/rand/v2"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
@@ -253,5 +254,14 @@ func TestParseDatum(t *testing.T) {
 	}
 	if _, err := ParseDatum("free"); err == nil {
 		t.Error(`ParseDatum("free"): got no error`)
+	}
+}
+
+func TestDatumStatement(t *testing.T) {
+	if s := DatumStatement(DatumControl, DatumControl); !strings.Contains(s, "stable control") {
+		t.Errorf("control/control: %q", s)
+	}
+	if s := DatumStatement(DatumControl, DatumBestFit); !strings.Contains(s, "shape only") {
+		t.Errorf("control/bestfit: %q", s)
 	}
 }

@@ -28,6 +28,11 @@ const (
 	// cylinder for a distance to be reported. Lague et al. (2013) suggest
 	// n ≥ 4 for the level of detection to be meaningful.
 	DefaultMinPoints = 4
+	// DefaultNormalScale is the plan radius for normal estimation, m: twice
+	// the default cylinder radius, so that the fitted plane spans the
+	// cylinder (Lague et al. 2013 advise a normal scale well above the
+	// roughness scale; common practice).
+	DefaultNormalScale = 1.0
 	// Z95 is the two-sided 95 % standard normal quantile used by LoD95.
 	Z95 = 1.959963984540054
 )
@@ -35,10 +40,10 @@ const (
 // Settings controls Compare and Grid. A nil *Settings means all defaults;
 // a zero field means its default.
 //
-// The normal scale of the original method (the neighbourhood over which a
-// normal is estimated) does not arise: the normal at a core point is the
-// design surface's exact normal there, so no normal is estimated from
-// either epoch's points.
+// Where a design surface exists the normal at a core point is the design's
+// exact normal there and no normal is estimated from the points; the normal
+// scale of the original method (NormalScale) is used only by
+// EstimateNormals, for comparisons without a design.
 type Settings struct {
 	// CoreSpacing is the plan (x, y) spacing of core points in m; zero means
 	// DefaultCoreSpacing.
@@ -59,6 +64,11 @@ type Settings struct {
 	// Median uses the median instead of the mean position along the normal
 	// (robust against stray points; σ is still the standard deviation).
 	Median bool
+	// NormalScale is the plan radius in m of the neighbourhood whose
+	// best-fit plane gives a core point's normal where no design surface is
+	// available (EstimateNormals); zero means DefaultNormalScale. It is not
+	// used where the design supplies the normal.
+	NormalScale float64
 	// Workers is the number of goroutines; zero means GOMAXPROCS.
 	Workers int
 }
@@ -83,6 +93,9 @@ func (s *Settings) withDefaults() Settings {
 	o.MinPoints = max(o.MinPoints, 2)
 	if o.Registration < 0 || !finite(o.Registration) {
 		o.Registration = 0
+	}
+	if o.NormalScale <= 0 {
+		o.NormalScale = DefaultNormalScale
 	}
 	if o.Workers <= 0 {
 		o.Workers = runtime.GOMAXPROCS(0)

@@ -188,6 +188,18 @@ func Difference(earlier, later Estimate, d1, d2 Datum) (Diff, error) {
 	return out, nil
 }
 
+// DatumStatement is the datum sentence for a point-level comparison of two
+// epochs (M3C2 distances): with stable control on both sides the distances
+// include any rigid movement; when either epoch was registered by best fit
+// to the shell, a rigid movement of the whole shell was absorbed by the
+// registration and only changes of shape show.
+func DatumStatement(d1, d2 Datum) string {
+	if d1 == DatumControl && d2 == DatumControl {
+		return "Both epochs are placed on stable control: distances include any movement of the shell as a whole."
+	}
+	return "At least one epoch was registered by best fit to the shell: a rigid movement (translation, rotation) of the shell as a whole was absorbed by that registration and is not visible; distances show changes of shape only."
+}
+
 func datumNote(d1, d2 Datum, dropped []string) string {
 	if d1 == DatumControl && d2 == DatumControl {
 		return "Both epochs are placed on stable control: position, orientation and shape are tested."
