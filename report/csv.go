@@ -1,5 +1,3 @@
-//go:build saddlecheck_pending
-
 package report
 
 import (

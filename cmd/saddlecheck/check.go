@@ -1,0 +1,228 @@
+package main
+
+import (
+	"crypto/sha256"
+	"encoding/hex"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+	"strings"
+	"time"
+
+	"saddlecheck/cloud"
+	"saddlecheck/deviation"
+	"saddlecheck/report"
+)
+
+func init() {
+	register("check", "measure points against the design and decide conformity", runCheck)
+}
+
+const checkHelp = `Usage: saddlecheck check --design FILE --points FILE [--points FILE ...] --out DIR [flags]
+
+Reads the survey points (CSV/TXT shot files, PLY, LAS, E57, XYZ — detected
+from the content), measures every point's signed orthogonal deviation from
+the design surface (positive on the design's normal side), classifies it
+(used, outside every patch, far from the shell, rejected row), decides each
+patch's and the structure's conformity against the tolerance the design file
+states, and writes into DIR:
+
+  deviations.csv  one row per input record, in input order, with its status
+  patches.csv     the per-patch statistics table
+  summary.json    the machine-readable summary (schema in README.md)
+  report.html     a self-contained report to read, print (A4) and sign
+
+Example:
+  saddlecheck check --design canopy.yaml --points shots.csv --out check-2026-11-30
+  saddlecheck check --design canopy.yaml --points scan.ply --points infill.csv \
+      --units m --out check-scan
+
+A headerless shot file needs its column order, e.g. --columns id,n,e,z,code.
+
+Exit codes: 0 conforming, 1 nonconforming or inconclusive, 2 usage or input
+error.
+`
+
+type checkConfig struct {
+	design  string
+	points  multiFlag
+	out     string
+	units   string
+	columns string
+	workers int
+	plyOut  string
+	geojson string
+	noFit   bool
+	seed    uint64
+	now     func() time.Time
+}
+
+func runCheck(args []string, stdout, stderr io.Writer) error {
+	var c checkConfig
+	fs := newFlags("check", checkHelp, stderr)
+	fs.StringVar(&c.design, "design", "", "design file (YAML), required")
+	fs.Var(&c.points, "points", "points file; repeat for several files")
+	fs.StringVar(&c.out, "out", "", "output folder (created if needed), required")
+	fs.StringVar(&c.units, "units", "m", "unit of the points files' coordinates: m, mm, ft (international), us-ft (US survey)")
+	fs.StringVar(&c.columns, "columns", "", "column order of headerless text files, e.g. id,n,e,z,code")
+	fs.IntVar(&c.workers, "workers", 0, "parallel workers (0: all cores)")
+	fs.StringVar(&c.plyOut, "ply-out", "", "also write the checked points as binary PLY with deviation and colour")
+	fs.StringVar(&c.geojson, "geojson", "", "also write the used points (or map cells) and patch outlines as GeoJSON")
+	fs.BoolVar(&c.noFit, "no-fit", false, "skip the as-built fit (placement/shape/local split)")
+	fs.Uint64Var(&c.seed, "seed", 1, "random seed of the robust fit (same seed, same report)")
+	if help, err := parseFlags(fs, args); help || err != nil {
+		return err
+	}
+	if c.design == "" || len(c.points) == 0 || c.out == "" {
+		return usageErr(stderr, "check", "--design, --points and --out are required")
+	}
+	c.now = time.Now
+	return check(&c, stdout, stderr)
+}
+
+func check(c *checkConfig, stdout, stderr io.Writer) error {
+	t0 := time.Now()
+	unit, err := cloud.ParseUnit(c.units)
+	if err != nil {
+		return usageErr(stderr, "check", "%v", err)
+	}
+	var cols []string
+	if c.columns != "" {
+		for _, s := range strings.Split(c.columns, ",") {
+			cols = append(cols, strings.TrimSpace(s))
+		}
+	}
+	d, err := deviation.LoadDesign(c.design)
+	if err != nil {
+		return err
+	}
+	if err := os.MkdirAll(c.out, 0o755); err != nil {
+		return err
+	}
+
+	opts := cloud.Options{Unit: unit, Columns: cols}
+	var inputs []deviation.Input
+	var readers []*timedReader
+	for i, p := range c.points {
+		r, err := cloud.Open(p, opts)
+		if err != nil {
+			return err
+		}
+		defer r.Close()
+		tr := &timedReader{Reader: r}
+		readers = append(readers, tr)
+		inputs = append(inputs, deviation.Input{Reader: tr, Source: i})
+	}
+
+	patchIDs := make([]string, len(d.Patches))
+	for i, p := range d.Patches {
+		patchIDs[i] = p.ID
+	}
+	csvw, err := report.NewPointCSV(filepath.Join(c.out, "deviations.csv"), []string(c.points), patchIDs, d.Tolerance.BandsM, report.PointCSVOptions{})
+	if err != nil {
+		return err
+	}
+	defer csvw.Abort()
+	col := deviation.NewCollector(d, len(c.points))
+	sinks := []deviation.Sink{col, csvw}
+
+	var prog func(int64)
+	if isTerminal(stderr) {
+		last := time.Now()
+		prog = func(n int64) {
+			if time.Since(last) > 200*time.Millisecond {
+				last = time.Now()
+				fmt.Fprintf(stderr, "\rchecked %d points…", n)
+			}
+		}
+	}
+	tRun := time.Now()
+	err = deviation.Run(inputs, d, sinks, deviation.RunOptions{Workers: c.workers, Progress: prog})
+	if prog != nil {
+		fmt.Fprint(stderr, "\r\033[K")
+	}
+	if err != nil {
+		var se *deviation.SourceError
+		if errors.As(err, &se) {
+			return fmt.Errorf("%s: %w", c.points[se.Source], se.Err)
+		}
+		return err
+	}
+	runS := time.Since(tRun).Seconds()
+
+	tRep := time.Now()
+	s := report.Build(col, d)
+	s.Tool = report.Tool{Name: "saddlecheck", Version: version}
+	s.Generated = c.now()
+	for i, p := range c.points {
+		h, err := fileSHA256(p)
+		if err != nil {
+			return err
+		}
+		info := readers[i].Info()
+		s.Inputs = append(s.Inputs, report.Input{Path: p, SHA256: h, Format: info.Format, Units: unit.Name,
+			Records: col.Records(i), Rejected: col.Rejected(i)})
+		for _, w := range info.Warnings {
+			s.Warnings = append(s.Warnings, p+": "+w)
+		}
+	}
+	var readS float64
+	for _, r := range readers {
+		readS += r.elapsed.Seconds()
+	}
+	if err := csvw.Commit(); err != nil {
+		return err
+	}
+	if err := report.WritePatchesCSV(filepath.Join(c.out, "patches.csv"), s); err != nil {
+		return err
+	}
+	s.TimingsS = map[string]float64{"read": readS, "deviation": runS, "report": 0}
+	s.TimingsS["report"] = time.Since(tRep).Seconds()
+	if err := report.WriteHTML(filepath.Join(c.out, "report.html"), s); err != nil {
+		return err
+	}
+	s.TimingsS["report"] = time.Since(tRep).Seconds()
+	s.TimingsS["total"] = time.Since(t0).Seconds()
+	if err := report.WriteJSON(filepath.Join(c.out, "summary.json"), s); err != nil {
+		return err
+	}
+	fmt.Fprintf(stdout, "%s: %s — %d points read, %d used, %d outside, %d far, %d rejected\n",
+		s.Structure, s.Verdict, s.PointsRead, s.PointsUsed, s.PointsOutside, s.PointsFar, s.PointsRejected)
+	for _, p := range s.Patches {
+		fmt.Fprintf(stdout, "  patch %-8s n=%-7d mean %+6.1f mm  RMS %5.1f mm  max|d| %5.1f mm  within ±%g mm %5.1f %%  %s\n",
+			p.ID, p.N, p.MeanMM, p.RMSMM, p.MaxAbsMM, s.Tolerance.LimitMM, 100*p.ShareWithinLimit, p.Verdict)
+	}
+	fmt.Fprintf(stdout, "report: %s\n", filepath.Join(c.out, "report.html"))
+	if s.Verdict != "conforming" {
+		return errVerdict
+	}
+	return nil
+}
+
+// timedReader measures the wall time spent inside Read.
+type timedReader struct {
+	cloud.Reader
+	elapsed time.Duration
+}
+
+func (t *timedReader) Read(c *cloud.Chunk, max int) error {
+	t0 := time.Now()
+	err := t.Reader.Read(c, max)
+	t.elapsed += time.Since(t0)
+	return err
+}
+
+func fileSHA256(path string) (string, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return "", err
+	}
+	defer f.Close()
+	h := sha256.New()
+	if _, err := io.Copy(h, f); err != nil {
+		return "", fmt.Errorf("%s: %w", path, err)
+	}
+	return hex.EncodeToString(h.Sum(nil)), nil
+}

@@ -1,0 +1,210 @@
+package deviation
+
+import (
+	"container/heap"
+	"math"
+
+	"gonum.org/v1/gonum/spatial/r3"
+)
+
+// MapPointLimit is the number of used points up to which the plan-view map
+// shows every point; above it the map shows aggregated Grid cells.
+const MapPointLimit = 50000
+
+// WorstCount is how many of the largest |deviation| points are kept.
+const WorstCount = 20
+
+// Collector is the Sink that gathers what the reports need, in bounded
+// memory: per-patch and overall accumulators, the plan grid, the largest
+// deviations, counts by status and by source, and (when the run has them)
+// as-built residual accumulators per patch.
+type Collector struct {
+	d       *Design
+	Overall *Acc
+	Patches []*Acc
+	// Local holds, per patch, the residuals from the as-built fit of used
+	// points (nil until a result carries residuals).
+	Local []*Acc
+	Grid  *Grid
+	// Points are the used points for the map while there are at most
+	// MapPointLimit of them (nil afterwards).
+	Points []MapPoint
+	worst  worstHeap
+	status [4]int64
+	recs   []int64
+	rej    []int64
+	// FirstRejected holds up to 5 examples of rejected records.
+	FirstRejected []RejectedRecord
+}
+
+// MapPoint is a used point for the map.
+type MapPoint struct {
+	X, Y, DevM float64
+	U          float64 // standard uncertainty, NaN when unknown
+}
+
+// RejectedRecord is an example of a rejected input record.
+type RejectedRecord struct {
+	Source int
+	Line   int64
+	Reason string
+}
+
+// WorstPoint is a used point with one of the largest |deviation|.
+type WorstPoint struct {
+	ID     string
+	Source int
+	Line   int64
+	Patch  int
+	P      r3.Vec
+	DevM   float64
+	U      float64 // NaN when unknown
+}
+
+// NewCollector returns a Collector for the design d and nSources inputs.
+func NewCollector(d *Design, nSources int) *Collector {
+	c := &Collector{d: d, Overall: NewAcc(d.Tolerance), recs: make([]int64, nSources), rej: make([]int64, nSources)}
+	for range d.Patches {
+		c.Patches = append(c.Patches, NewAcc(d.Tolerance))
+	}
+	if lo, hi, ok := d.Extent(); ok {
+		if g, err := NewGrid(lo, hi, GridCellSize(lo, hi, 6000)); err == nil {
+			c.Grid = g
+		}
+	}
+	c.Points = make([]MapPoint, 0, 1024)
+	return c
+}
+
+// Consume adds one result.
+func (c *Collector) Consume(r *Result) error {
+	ch := r.Chunk
+	src := ch.Source
+	for i, n := 0, ch.Len(); i < n; i++ {
+		st := r.Status[i]
+		c.status[st]++
+		if src < len(c.recs) {
+			c.recs[src]++
+			if st == StatusRejected {
+				c.rej[src]++
+			}
+		}
+		switch st {
+		case StatusRejected:
+			if len(c.FirstRejected) < 5 {
+				c.FirstRejected = append(c.FirstRejected, RejectedRecord{Source: src, Line: ch.Line[i], Reason: ch.Reject[i]})
+			}
+			continue
+		case StatusUsed:
+		default:
+			continue
+		}
+		d := r.Dev[i]
+		k := r.Patch[i]
+		c.Overall.Add(d)
+		c.Patches[k].Add(d)
+		p := ch.P[i]
+		if c.Grid != nil {
+			c.Grid.Add(p, d)
+		}
+		u := math.NaN()
+		if r.U != nil {
+			u = r.U[i]
+		}
+		if c.Points != nil {
+			if len(c.Points) < MapPointLimit {
+				c.Points = append(c.Points, MapPoint{X: p.X, Y: p.Y, DevM: d, U: u})
+			} else {
+				c.Points = nil
+			}
+		}
+		if r.Resid != nil && !math.IsNaN(r.Resid[i]) {
+			if c.Local == nil {
+				c.Local = make([]*Acc, len(c.Patches))
+			}
+			if c.Local[k] == nil {
+				c.Local[k] = NewAcc(c.d.Tolerance)
+			}
+			c.Local[k].Add(r.Resid[i])
+		}
+		a := math.Abs(d)
+		if len(c.worst) < WorstCount || a > math.Abs(c.worst[0].DevM) {
+			w := WorstPoint{ID: ch.PointID(i), Source: src, Line: ch.Line[i], Patch: int(k), P: p, DevM: d, U: u}
+			if len(c.worst) < WorstCount {
+				heap.Push(&c.worst, w)
+			} else {
+				c.worst[0] = w
+				heap.Fix(&c.worst, 0)
+			}
+		}
+	}
+	return nil
+}
+
+// Count returns the number of records with status st.
+func (c *Collector) Count(st Status) int64 { return c.status[st] }
+
+// Records returns the number of records read from source i.
+func (c *Collector) Records(i int) int64 { return c.recs[i] }
+
+// Rejected returns the number of rejected records of source i.
+func (c *Collector) Rejected(i int) int64 { return c.rej[i] }
+
+// Worst returns the kept largest-|deviation| points, largest first.
+func (c *Collector) Worst() []WorstPoint {
+	out := append([]WorstPoint(nil), c.worst...)
+	for i := 1; i < len(out); i++ {
+		for j := i; j > 0 && math.Abs(out[j].DevM) > math.Abs(out[j-1].DevM); j-- {
+			out[j], out[j-1] = out[j-1], out[j]
+		}
+	}
+	return out
+}
+
+// Verdicts returns each patch's verdict and the overall verdict.
+func (c *Collector) Verdicts() ([]Verdict, Verdict) {
+	vs := make([]Verdict, len(c.Patches))
+	for i, a := range c.Patches {
+		vs[i] = a.Summary(c.d.Tolerance).Verdict
+	}
+	return vs, Overall(vs)
+}
+
+// worstHeap is a min-heap on |DevM|.
+type worstHeap []WorstPoint
+
+func (h worstHeap) Len() int           { return len(h) }
+func (h worstHeap) Less(i, j int) bool { return math.Abs(h[i].DevM) < math.Abs(h[j].DevM) }
+func (h worstHeap) Swap(i, j int)      { h[i], h[j] = h[j], h[i] }
+func (h *worstHeap) Push(x any)        { *h = append(*h, x.(WorstPoint)) }
+func (h *worstHeap) Pop() any {
+	old := *h
+	x := old[len(old)-1]
+	*h = old[:len(old)-1]
+	return x
+}
+
+// HistogramInto re-bins the fine histogram of a into len(counts) bins of
+// width binM starting at fromM (metres), adding to counts; values below
+// fromM or above the last bin add to under and over. Each fine bin goes
+// whole to the coarse bin holding its centre, so the coarse counts are
+// exact to one fine bin (HistBinM) at each edge.
+func HistogramInto(a *Acc, fromM, binM float64, counts []int64, under, over *int64) {
+	*under += a.under
+	*over += a.over
+	for i, c := range a.hist {
+		if c == 0 {
+			continue
+		}
+		centre := -a.far + (float64(i)+0.5)/a.binsPerMetre
+		k := int(math.Floor((centre - fromM) / binM))
+		switch {
+		case k < 0:
+			*under += c
+		case k >= len(counts):
+			*over += c
+		default:
+			counts[k] += c
+		}
+	}
+}
