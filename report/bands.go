@@ -29,4 +29,3 @@ func BandIndex(bandsM []float64, d float64) int {
 	}
 	return len(bandsM)
 }
-

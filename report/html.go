@@ -32,8 +32,8 @@ type view struct {
 
 type patchRow struct {
 	ID, Kind, N, Mean, Std, RMS, Min, Max, P05, P50, P95, MaxAbs, Within, Verdict, Cls string
-	Bands                                                                          []string
-	Zones                                                                          string
+	Bands                                                                              []string
+	Zones                                                                              string
 }
 
 type worstRow struct {

@@ -74,5 +74,11 @@ func mmToM(v []float64) []float64 {
 }
 
 // r3d and r6d round for a readable table (the JSON keeps full precision).
-func r3d(v float64) float64 { f, _ := strconv.ParseFloat(strconv.FormatFloat(v, 'f', 3, 64), 64); return f }
-func r6d(v float64) float64 { f, _ := strconv.ParseFloat(strconv.FormatFloat(v, 'f', 6, 64), 64); return f }
+func r3d(v float64) float64 {
+	f, _ := strconv.ParseFloat(strconv.FormatFloat(v, 'f', 3, 64), 64)
+	return f
+}
+func r6d(v float64) float64 {
+	f, _ := strconv.ParseFloat(strconv.FormatFloat(v, 'f', 6, 64), 64)
+	return f
+}

@@ -192,9 +192,9 @@ func writeDemoInputs(dir string) (designPath, shotsPath string, err error) {
 		shot(r3.Vec{X: demoE0 + 9*math.Cos(a), Y: demoN0 + 9*math.Sin(a), Z: 0.05 * rng.NormFloat64()}, "GND")
 	}
 	// bad rows, as field books have them
-	b.WriteString("2001,6123401.2000,512341.1000,,SOFNE\n")              // missing elevation
-	b.WriteString("2002,6123402.1000,5123A2.3000,4.1000,SOFNE\n")        // mistyped easting
-	b.WriteString("2003,6123398.0000,512338.0000,NaN,SOFSW\n")           // NaN from an export
+	b.WriteString("2001,6123401.2000,512341.1000,,SOFNE\n")       // missing elevation
+	b.WriteString("2002,6123402.1000,5123A2.3000,4.1000,SOFNE\n") // mistyped easting
+	b.WriteString("2003,6123398.0000,512338.0000,NaN,SOFSW\n")    // NaN from an export
 	shotsPath = filepath.Join(dir, "shots.csv")
 	return designPath, shotsPath, report.WriteFile(shotsPath, []byte(b.String()))
 }
