@@ -734,6 +734,7 @@ func (r *csvReader) finishStrings(c *Chunk) {
 			c.Code = append(c.Code, s[r.strs[i+1].a:r.strs[i+1].b])
 		}
 	}
+	r.ids.reserve(len(c.ID))
 	for i, id := range c.ID {
 		if id == "" {
 			continue
@@ -746,6 +747,8 @@ func (r *csvReader) finishStrings(c *Chunk) {
 		}
 	}
 }
+
+func (r *csvReader) duplicateIDs() int64 { return r.dups }
 
 // Info implements Reader. Warnings found while reading (repeated ids)
 // appear once they are found.

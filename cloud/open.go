@@ -125,11 +125,17 @@ func Scan(r Reader) (Summary, error) {
 			s.Min = r3.Vec{X: math.Min(s.Min.X, p.X), Y: math.Min(s.Min.Y, p.Y), Z: math.Min(s.Min.Z, p.Z)}
 			s.Max = r3.Vec{X: math.Max(s.Max.X, p.X), Y: math.Max(s.Max.Y, p.Y), Z: math.Max(s.Max.Z, p.Z)}
 		}
-		for i, id := range c.ID {
-			if _, dup := ids.add(id, c.Line[i]); dup {
-				s.DuplicateIDs++
+		if _, counted := r.(dupCounter); !counted && c.ID != nil {
+			ids.reserve(len(c.ID))
+			for i, id := range c.ID {
+				if _, dup := ids.add(id, c.Line[i]); dup {
+					s.DuplicateIDs++
+				}
 			}
 		}
+	}
+	if d, ok := r.(dupCounter); ok {
+		s.DuplicateIDs = d.duplicateIDs()
 	}
 	if s.Count == s.Rejected {
 		s.Min, s.Max = r3.Vec{}, r3.Vec{}
@@ -137,6 +143,10 @@ func Scan(r Reader) (Summary, error) {
 	s.Info = r.Info()
 	return s, nil
 }
+
+// dupCounter is implemented by readers that count repeated ids
+// themselves, so that Scan need not do it twice.
+type dupCounter interface{ duplicateIDs() int64 }
 
 // MaxTrackedIDs bounds the memory of duplicate-id detection: after this many
 // distinct ids, further ids are only checked against those kept (16 bytes
@@ -179,6 +189,18 @@ func (s *idSet) add(id string, line int64) (int64, bool) {
 			s.n++
 			return 0, false
 		}
+	}
+}
+
+// reserve sizes the table for n more ids at once, saving the rehashes of
+// growing to it step by step.
+func (s *idSet) reserve(n int) {
+	want := 1 << 14
+	for want < 2*(s.n+n) && want < 4*MaxTrackedIDs {
+		want *= 2
+	}
+	if want > len(s.keys) {
+		s.rehash(want)
 	}
 }
 

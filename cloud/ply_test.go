@@ -515,3 +515,37 @@ func TestPLYStreamsInBoundedMemory(t *testing.T) {
 		t.Errorf("reading a %d-byte file allocated %d bytes, want < 4 MiB", 25*n, alloc)
 	}
 }
+
+// idReader is a Reader of fixed records with ids, for Scan's own
+// repeated-id count (readers that do not count them).
+type idReader struct {
+	ids  []string
+	done bool
+}
+
+func (r *idReader) Read(c *Chunk, max int) error {
+	c.Reset()
+	if r.done {
+		return io.EOF
+	}
+	r.done = true
+	for i, id := range r.ids {
+		c.P = append(c.P, r3.Vec{X: float64(i)})
+		c.ID = append(c.ID, id)
+		c.Line = append(c.Line, int64(i+1))
+		c.Reject = append(c.Reject, "")
+	}
+	return nil
+}
+func (r *idReader) Info() Info   { return Info{Format: "test"} }
+func (r *idReader) Close() error { return nil }
+
+func TestScanCountsRepeatedIDs(t *testing.T) {
+	s, err := Scan(&idReader{ids: []string{"a", "b", "a", "c", "a", "b"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if s.Count != 6 || s.DuplicateIDs != 3 || s.Min.X != 0 || s.Max.X != 5 {
+		t.Errorf("got %+v, want 6 records, 3 repeats, x 0..5", s)
+	}
+}
