@@ -262,3 +262,26 @@ func FuzzDesign(f *testing.F) {
 		}
 	})
 }
+
+// BenchmarkClassify measures Design.Classify on points near the patches of
+// the demonstration design (three patches, bounding boxes in use).
+func BenchmarkClassify(b *testing.B) {
+	d, err := LoadDesign(filepath.Join("testdata", "design_canopy.yaml"))
+	if err != nil {
+		b.Fatal(err)
+	}
+	rng := rand.New(rand.NewPCG(41, 42))
+	pts := make([]r3.Vec, 1<<12)
+	for i := range pts {
+		pt := d.Patches[i%len(d.Patches)].Surface.(interface{ Param(u, v float64) r3.Vec })
+		pts[i] = r3.Add(pt.Param(rng.Float64(), rng.Float64()), r3.Vec{Z: 0.01 * rng.NormFloat64()})
+	}
+	b.ReportAllocs()
+	var sum float64
+	for i := 0; i < b.N; i++ {
+		_, pr, _ := d.Classify(pts[i&(len(pts)-1)])
+		sum += pr.D
+	}
+	sinkD = sum
+	b.ReportMetric(float64(b.N)/b.Elapsed().Seconds(), "points/s")
+}
