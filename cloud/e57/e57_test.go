@@ -457,3 +457,26 @@ func TestMatch(t *testing.T) {
 		t.Error("Match disagrees with the ASTM-E57 signature")
 	}
 }
+
+// TestRejectValues checks that a NaN coordinate and one beyond
+// cloud.MaxCoord are rejected with the reason, and a good one kept.
+func TestRejectValues(t *testing.T) {
+	xs := []float64{math.NaN(), 2e8, 1}
+	s := synthScan{name: "v", n: 3, fields: []synthField{
+		floatField("cartesianX", false, 3, func(i int) float64 { return xs[i] }),
+		floatField("cartesianY", false, 3, func(int) float64 { return 2 }),
+		floatField("cartesianZ", false, 3, func(int) float64 { return 3 }),
+	}}
+	data := buildE57([]synthScan{s}, 100)
+	r, err := NewReader(bytes.NewReader(data), int64(len(data)), cloud.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	d := readAll(t, r, 0)
+	if !strings.HasPrefix(d.Reject[0], "not finite") || !strings.HasPrefix(d.Reject[1], "out of range") || d.Reject[2] != "" {
+		t.Errorf("rejects %q", d.Reject)
+	}
+	if d.P[0] != (r3.Vec{}) || d.P[1] != (r3.Vec{}) || d.P[2] != (r3.Vec{X: 1, Y: 2, Z: 3}) {
+		t.Errorf("points %v", d.P)
+	}
+}

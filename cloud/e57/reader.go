@@ -289,7 +289,10 @@ func (r *Reader) emit(c *cloud.Chunk, s *Scan, n int) {
 				p = r3.Scale(r.unit, p)
 			}
 			if !finite(p) {
-				reject = "non-finite coordinate"
+				reject = fmt.Sprintf("not finite (%g, %g, %g)", p.X, p.Y, p.Z)
+				p = r3.Vec{}
+			} else if m := math.Max(math.Abs(p.X), math.Max(math.Abs(p.Y), math.Abs(p.Z))); m > cloud.MaxCoord {
+				reject = fmt.Sprintf("out of range (|v| = %g m > %g m)", m, float64(cloud.MaxCoord))
 				p = r3.Vec{}
 			}
 		}

@@ -34,16 +34,19 @@ const (
 // Reader streams the point records of one LAS file. It implements
 // cloud.Reader.
 type Reader struct {
-	h      *Header
-	r      io.ReaderAt
-	f      *os.File // nil unless opened by Open
-	path   string
-	unit   float64 // multiplier applied after scaling; 1 for metres
-	next   int64   // 0-based index of the next record
-	buf    []byte
-	names  []string
-	info   cloud.Info
-	closed bool
+	h    *Header
+	r    io.ReaderAt
+	f    *os.File // nil unless opened by Open
+	path string
+	unit float64 // multiplier applied after scaling; 1 for metres
+	// mayExceed is set when scale and offset allow coordinates beyond
+	// cloud.MaxCoord, so that Read must check every record.
+	mayExceed bool
+	next      int64 // 0-based index of the next record
+	buf       []byte
+	names     []string
+	info      cloud.Info
+	closed    bool
 }
 
 // Open opens the LAS file at path. Options.Unit is applied only when it is a
@@ -83,6 +86,12 @@ func NewReader(r io.ReaderAt, size int64, opt cloud.Options) (*Reader, error) {
 	lr.names = []string{AttrIntensity, AttrReturnNumber, AttrNumberOfReturns, AttrClassification}
 	if hasTime(h.PointFormat) {
 		lr.names = append(lr.names, AttrGPSTime)
+	}
+	for k := 0; k < 3; k++ {
+		// |X| ≤ |offset| + 2³¹·|scale| for any int32 record.
+		if (math.Abs(h.Offset[k])+math.Abs(h.Scale[k])*(1<<31))*lr.unit > cloud.MaxCoord {
+			lr.mayExceed = true
+		}
 	}
 	lr.info = lr.makeInfo(opt)
 	return lr, nil
@@ -141,8 +150,22 @@ func (r *Reader) Read(c *cloud.Chunk, max int) error {
 	} else {
 		r.decodeExtended(c, buf, n)
 	}
+	if r.mayExceed {
+		rejectRange(c)
+	}
 	r.next += int64(n)
 	return nil
+}
+
+// rejectRange rejects the records of c beyond cloud.MaxCoord, a unit or
+// scale mistake rather than a site coordinate.
+func rejectRange(c *cloud.Chunk) {
+	for i, p := range c.P {
+		if m := math.Max(math.Abs(p.X), math.Max(math.Abs(p.Y), math.Abs(p.Z))); m > cloud.MaxCoord {
+			c.Reject[i] = fmt.Sprintf("out of range (|v| = %g m > %g m)", m, float64(cloud.MaxCoord))
+			c.P[i] = r3.Vec{}
+		}
+	}
 }
 
 // prepare sizes every slice of c to n records and sets the attribute names.

@@ -336,3 +336,26 @@ func BenchmarkLASRead(b *testing.B) {
 		})
 	}
 }
+
+// TestRange checks that records beyond cloud.MaxCoord (a scale mistake:
+// 1 m per count) are rejected, not handed out, and the others kept.
+func TestRange(t *testing.T) {
+	pts := synthPoints(3)
+	pts[0].X, pts[1].X, pts[2].X = 0, 2e8, -1000 // X = raw·1 m + 500000 m
+	data := buildLAS(2, 0, 0, pts)
+	binary.LittleEndian.PutUint64(data[131:], math.Float64bits(1))
+	r, err := NewReader(bytes.NewReader(data), int64(len(data)), cloud.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var c cloud.Chunk
+	if err := r.Read(&c, 0); err != nil {
+		t.Fatal(err)
+	}
+	if c.Reject[0] != "" || c.Reject[2] != "" || c.P[0].X != 500000 || c.P[2].X != 499000 {
+		t.Errorf("records 1, 3: rejects %q, x %v %v", c.Reject, c.P[0].X, c.P[2].X)
+	}
+	if !strings.Contains(c.Reject[1], "out of range") || c.P[1] != (r3.Vec{}) {
+		t.Errorf("record 2: reject %q, P %v", c.Reject[1], c.P[1])
+	}
+}
