@@ -480,3 +480,15 @@ func TestRejectValues(t *testing.T) {
 		t.Errorf("points %v", d.P)
 	}
 }
+
+// TestRegistered checks that cloud.Open sniffs an E57 file to this reader.
+func TestRegistered(t *testing.T) {
+	r, err := cloud.Open(refFile(t, "bunnyInt32.e57"), cloud.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer r.Close()
+	if _, ok := r.(*Reader); !ok || r.Info().Format != "e57" || r.Info().Count != 30571 {
+		t.Errorf("cloud.Open gave %T %q count %d", r, r.Info().Format, r.Info().Count)
+	}
+}

@@ -452,3 +452,15 @@ func TestLoadersGL(t *testing.T) {
 		t.Errorf("only %d files compared", compared)
 	}
 }
+
+// TestRegistered checks that cloud.Open sniffs a LAS file to this reader.
+func TestRegistered(t *testing.T) {
+	r, err := cloud.Open(refFile(t, "simple.las"), cloud.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer r.Close()
+	if _, ok := r.(*Reader); !ok || r.Info().Format != "las" || r.Info().Count != 1065 {
+		t.Errorf("cloud.Open gave %T %q count %d", r, r.Info().Format, r.Info().Count)
+	}
+}
