@@ -20,6 +20,7 @@ import (
 	"saddlecheck/archive"
 	"saddlecheck/change"
 	"saddlecheck/cloud"
+	"saddlecheck/deviation"
 	"saddlecheck/report"
 	"saddlecheck/report/history"
 )
@@ -330,10 +331,6 @@ func archiveRecheck(args []string, stdout, stderr io.Writer) error {
 	if *id <= 0 || *out == "" {
 		return usageErr(stderr, "archive recheck", "--epoch and --out are required")
 	}
-	chk, ok := commands["check"]
-	if !ok {
-		return errors.New("archive recheck is not available yet: this build has no check command")
-	}
 	a, err := openArchive(stderr, "archive recheck", *dir)
 	if err != nil {
 		return err
@@ -356,7 +353,7 @@ func archiveRecheck(args []string, stdout, stderr io.Writer) error {
 	if *columns != "" {
 		cargs = append(cargs, "--columns", *columns)
 	}
-	checkErr := chk.run(cargs, stdout, stderr)
+	checkErr := runCheck(cargs, stdout, stderr)
 	if checkErr != nil && !errors.Is(checkErr, errVerdict) {
 		return checkErr
 	}
@@ -482,7 +479,7 @@ func archiveCompare(args []string, stdout, stderr io.Writer) error {
 	s := resolveM3C2(*set, e1, e2)
 	c := &history.Comparison{Tool: "saddlecheck " + version, Generated: time.Now(), Structure: st.Name, DesignSHA: st.DesignHash,
 		From: archiveEpochView(e1, n1), To: archiveEpochView(e2, n2), Settings: s, Datum: change.DatumStatement(d1, d2)}
-	c.Cores, c.Patches, c.NormalSource, err = archiveCoreGrid(a, st, tmp, p1, p2, &s)
+	c.Cores, c.Patches, c.NormalSource, c.Warning, err = archiveCoreGrid(a, st, tmp, p1, p2, &s)
 	if err != nil {
 		return err
 	}
@@ -540,42 +537,62 @@ func resolveM3C2(s change.Settings, e1, e2 archive.Epoch) change.Settings {
 	return s
 }
 
-// designProjectors, when set, loads the patches of a design file as
-// projectors for core points. It stays nil until the design-file loader is
-// wired in; compare then uses vertical normals and says so.
-var designProjectors func(path string) (ids []string, proj []change.ProjectFunc, err error)
+// designProjectors loads the patches of a design file as projectors for
+// core points; nil means no design loader (normals are then estimated).
+var designProjectors = loadDesignProjectors
 
-// archiveCoreGrid builds the core points of a comparison from the structure's
-// design (one grid per patch) or, without a design loader, from the points'
-// plan extent with vertical normals.
-func archiveCoreGrid(a *archive.Archive, st archive.Structure, tmp string, p1, p2 []r3.Vec, s *change.Settings) ([]change.Core, []string, string, error) {
-	if designProjectors == nil {
-		cores, err := change.Grid(nil, nil, 0, p1, p2, s)
-		if err != nil {
-			return nil, nil, "", err
-		}
-		failed := change.EstimateNormals(cores, p1, s)
-		src := fmt.Sprintf("estimated: the normal of the best-fit plane of the earlier epoch's points within %g m (plan) of each core point, because this build cannot load the design surfaces", s.NormalScale)
-		if failed > 0 {
-			src += fmt.Sprintf("; %d core points had too few neighbours and keep the vertical", failed)
-		}
-		return cores, []string{"all"}, src, nil
-	}
-	design := filepath.Join(tmp, "design-"+st.DesignName)
-	if err := a.Extract(st.DesignHash, design); err != nil {
-		return nil, nil, "", err
-	}
-	ids, proj, err := designProjectors(design)
+func loadDesignProjectors(path string) ([]string, []change.ProjectFunc, error) {
+	d, err := deviation.LoadDesign(path)
 	if err != nil {
-		return nil, nil, "", fmt.Errorf("design of %q: %w", st.Name, err)
+		return nil, nil, err
 	}
-	var cores []change.Core
-	for k, p := range proj {
-		if cores, err = change.Grid(cores, p, k, p1, p2, s); err != nil {
-			return nil, nil, "", err
+	ids := make([]string, len(d.Patches))
+	proj := make([]change.ProjectFunc, len(d.Patches))
+	for i, p := range d.Patches {
+		surf := p.Surface
+		ids[i] = p.ID
+		proj[i] = func(q r3.Vec) (r3.Vec, r3.Vec, bool) {
+			pr := surf.Project(q)
+			return pr.Foot, pr.Normal, pr.Inside
 		}
 	}
-	return cores, ids, "design surface normal at each core point (no normal estimated from the points)", nil
+	return ids, proj, nil
+}
+
+// archiveCoreGrid builds the core points of a comparison from the
+// structure's design (one grid per patch, normals from the design) or, when
+// the design cannot be loaded, from the points' plan extent with normals
+// estimated from the earlier epoch's points. It returns the cores, the
+// patch names, the normal statement and warnings.
+func archiveCoreGrid(a *archive.Archive, st archive.Structure, tmp string, p1, p2 []r3.Vec, s *change.Settings) ([]change.Core, []string, string, []string, error) {
+	var warn []string
+	if designProjectors != nil {
+		design := filepath.Join(tmp, "design-"+archiveSafeName(st.DesignName, "design"))
+		if err := a.Extract(st.DesignHash, design); err != nil {
+			return nil, nil, "", nil, err
+		}
+		ids, proj, err := designProjectors(design)
+		if err == nil {
+			var cores []change.Core
+			for k, p := range proj {
+				if cores, err = change.Grid(cores, p, k, p1, p2, s); err != nil {
+					return nil, nil, "", nil, err
+				}
+			}
+			return cores, ids, "design surface normal at each core point (no normal estimated from the points)", nil, nil
+		}
+		warn = append(warn, fmt.Sprintf("The archived design file of %q could not be loaded (%v); normals were estimated from the points instead.", st.Name, err))
+	}
+	cores, err := change.Grid(nil, nil, 0, p1, p2, s)
+	if err != nil {
+		return nil, nil, "", nil, err
+	}
+	failed := change.EstimateNormals(cores, p1, s)
+	src := fmt.Sprintf("estimated: the normal of the best-fit plane of the earlier epoch's points within %g m (plan) of each core point, as no design surface was available", s.NormalScale)
+	if failed > 0 {
+		src += fmt.Sprintf("; %d core points had too few neighbours and keep the vertical", failed)
+	}
+	return cores, []string{"all"}, src, warn, nil
 }
 
 // archiveParamTests runs the congruency test per patch present in both
@@ -765,7 +782,7 @@ func archiveCoreTrends(a *archive.Archive, st archive.Structure, es []archive.Ep
 		return nil, err
 	}
 	s := resolveM3C2(set, es[0], es[len(es)-1])
-	cores, _, _, err := archiveCoreGrid(a, st, tmp, first, last, &s)
+	cores, _, _, _, err := archiveCoreGrid(a, st, tmp, first, last, &s)
 	if err != nil {
 		return nil, err
 	}

@@ -103,10 +103,10 @@ type History struct {
 
 // CoreTrendSummary counts per-core rates of the position along the normal.
 type CoreTrendSummary struct {
-	Cores       int
-	Fitted      int
-	Significant int
+	Cores       int `json:"cores"`
+	Fitted      int `json:"fitted"`
+	Significant int `json:"significant"`
 	// MeanRateMMPerYear is over fitted cores.
-	MeanRateMMPerYear float64
-	MaxAbsMMPerYear   float64
+	MeanRateMMPerYear float64 `json:"mean_rate_mm_per_year"`
+	MaxAbsMMPerYear   float64 `json:"max_abs_rate_mm_per_year"`
 }
