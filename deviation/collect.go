@@ -5,6 +5,8 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/spatial/r3"
+
+	"saddlecheck/cloud"
 )
 
 // MapPointLimit is the number of used points up to which the plan-view map
@@ -26,6 +28,11 @@ type Collector struct {
 	// points (nil until a result carries residuals).
 	Local []*Acc
 	Grid  *Grid
+	// LocalGrid and LocalPoints map the as-built residuals like Grid and
+	// Points map the deviations.
+	LocalGrid   *Grid
+	LocalPoints []MapPoint
+	worstLocal  worstHeap
 	// Points are the used points for the map while there are at most
 	// MapPointLimit of them (nil afterwards).
 	Points []MapPoint
@@ -71,8 +78,12 @@ func NewCollector(d *Design, nSources int) *Collector {
 		if g, err := NewGrid(lo, hi, GridCellSize(lo, hi, 6000)); err == nil {
 			c.Grid = g
 		}
+		if g, err := NewGrid(lo, hi, GridCellSize(lo, hi, 6000)); err == nil {
+			c.LocalGrid = g
+		}
 	}
 	c.Points = make([]MapPoint, 0, 1024)
+	c.LocalPoints = make([]MapPoint, 0, 1024)
 	return c
 }
 
@@ -125,18 +136,21 @@ func (c *Collector) Consume(r *Result) error {
 			if c.Local[k] == nil {
 				c.Local[k] = NewAcc(c.d.Tolerance)
 			}
-			c.Local[k].Add(r.Resid[i])
-		}
-		a := math.Abs(d)
-		if len(c.worst) < WorstCount || a > math.Abs(c.worst[0].DevM) {
-			w := WorstPoint{ID: ch.PointID(i), Source: src, Line: ch.Line[i], Patch: int(k), P: p, DevM: d, U: u}
-			if len(c.worst) < WorstCount {
-				heap.Push(&c.worst, w)
-			} else {
-				c.worst[0] = w
-				heap.Fix(&c.worst, 0)
+			e := r.Resid[i]
+			c.Local[k].Add(e)
+			if c.LocalGrid != nil {
+				c.LocalGrid.Add(p, e)
 			}
+			if c.LocalPoints != nil {
+				if len(c.LocalPoints) < MapPointLimit {
+					c.LocalPoints = append(c.LocalPoints, MapPoint{X: p.X, Y: p.Y, DevM: e, U: math.NaN()})
+				} else {
+					c.LocalPoints = nil
+				}
+			}
+			c.worstLocal.offer(ch, i, int(k), p, e, math.NaN())
 		}
+		c.worst.offer(ch, i, int(k), p, d, u)
 	}
 	return nil
 }
@@ -151,8 +165,28 @@ func (c *Collector) Records(i int) int64 { return c.recs[i] }
 func (c *Collector) Rejected(i int) int64 { return c.rej[i] }
 
 // Worst returns the kept largest-|deviation| points, largest first.
-func (c *Collector) Worst() []WorstPoint {
-	out := append([]WorstPoint(nil), c.worst...)
+func (c *Collector) Worst() []WorstPoint { return c.worst.sorted() }
+
+// WorstLocal returns the kept largest-|residual| points from the as-built
+// fits, largest first (DevM holds the residual).
+func (c *Collector) WorstLocal() []WorstPoint { return c.worstLocal.sorted() }
+
+// offer keeps record i among the WorstCount largest |v|.
+func (h *worstHeap) offer(ch *cloud.Chunk, i, k int, p r3.Vec, v, u float64) {
+	if len(*h) == WorstCount && math.Abs(v) <= math.Abs((*h)[0].DevM) {
+		return
+	}
+	w := WorstPoint{ID: ch.PointID(i), Source: ch.Source, Line: ch.Line[i], Patch: k, P: p, DevM: v, U: u}
+	if len(*h) < WorstCount {
+		heap.Push(h, w)
+		return
+	}
+	(*h)[0] = w
+	heap.Fix(h, 0)
+}
+
+func (h worstHeap) sorted() []WorstPoint {
+	out := append([]WorstPoint(nil), h...)
 	for i := 1; i < len(out); i++ {
 		for j := i; j > 0 && math.Abs(out[j].DevM) > math.Abs(out[j-1].DevM); j-- {
 			out[j], out[j-1] = out[j-1], out[j]

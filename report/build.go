@@ -68,7 +68,7 @@ func Build(c *deviation.Collector, d *deviation.Design) *Summary {
 	}
 	s.VerdictText = verdictText(s)
 	for _, w := range c.Worst() {
-		wp := WorstPoint{ID: w.ID, Line: w.Line, DeviationMM: w.DevM * 1000, X: w.P.X, Y: w.P.Y, Z: w.P.Z}
+		wp := WorstPoint{ID: w.ID, Source: w.Source, Line: w.Line, DeviationMM: w.DevM * 1000, X: w.P.X, Y: w.P.Y, Z: w.P.Z}
 		if w.Patch >= 0 && w.Patch < len(d.Patches) {
 			wp.Patch = d.Patches[w.Patch].ID
 		}

@@ -22,6 +22,8 @@ type view struct {
 	Histogram  template.HTML
 	Map        template.HTML
 	Legend     template.HTML
+	LocalMap   template.HTML
+	WorstLocal []worstRow
 	Patches    []patchRow
 	Worst      []worstRow
 	AsBuilt    []asBuiltRow
@@ -163,5 +165,12 @@ func RenderHTML(w *bytes.Buffer, s *Summary) error {
 	v.Histogram = histogramSVG(&s.Histogram, s.Tolerance.LimitMM, span)
 	v.Map = mapSVG(&s.Map, span)
 	v.Legend = legendSVG(span)
+	if len(v.AsBuilt) > 0 {
+		v.LocalMap = mapSVG(&s.LocalMap, span)
+		for _, p := range s.WorstLocal {
+			v.WorstLocal = append(v.WorstLocal, worstRow{ID: p.ID, File: p.File, Line: p.Line, Patch: p.Patch, Dev: mm(p.DeviationMM),
+				X: fmt.Sprintf("%.3f", p.X), Y: fmt.Sprintf("%.3f", p.Y), Z: fmt.Sprintf("%.3f", p.Z)})
+		}
+	}
 	return tmpl.Execute(w, v)
 }

@@ -40,6 +40,10 @@ type Summary struct {
 	Worst       []WorstPoint `json:"worst"`
 	Histogram   Histogram    `json:"histogram"`
 	Map         Map          `json:"-"`
+	// LocalMap maps the residuals from the as-built fits; WorstLocal lists
+	// the largest of them (DeviationMM holds the residual).
+	LocalMap   Map          `json:"-"`
+	WorstLocal []WorstPoint `json:"worst_local,omitempty"`
 	Uncertainty *Uncertainty `json:"uncertainty,omitempty"`
 
 	TimingsS map[string]float64 `json:"timings_s"`
@@ -155,6 +159,7 @@ type Value struct {
 // WorstPoint is one of the points with the largest |deviation|.
 type WorstPoint struct {
 	ID          string  `json:"id"`
+	Source      int     `json:"-"`
 	File        string  `json:"file"`
 	Line        int64   `json:"line"`
 	Patch       string  `json:"patch"`

@@ -11,8 +11,11 @@ import (
 	"strings"
 	"time"
 
+	"gonum.org/v1/gonum/spatial/r3"
+
 	"saddlecheck/cloud"
 	"saddlecheck/deviation"
+	"saddlecheck/fit"
 	"saddlecheck/report"
 )
 
@@ -103,57 +106,82 @@ func check(c *checkConfig, stdout, stderr io.Writer) error {
 	}
 
 	opts := cloud.Options{Unit: unit, Columns: cols}
-	var inputs []deviation.Input
-	var readers []*timedReader
-	for i, p := range c.points {
-		r, err := cloud.Open(p, opts)
-		if err != nil {
-			return err
+	var prog func(int64)
+	var progLabel string
+	if isTerminal(stderr) {
+		last := time.Now()
+		prog = func(n int64) {
+			if time.Since(last) > 200*time.Millisecond {
+				last = time.Now()
+				fmt.Fprintf(stderr, "\r%s %d points…", progLabel, n)
+			}
 		}
-		defer r.Close()
-		tr := &timedReader{Reader: r}
-		readers = append(readers, tr)
-		inputs = append(inputs, deviation.Input{Reader: tr, Source: i})
+	}
+	endProg := func() {
+		if prog != nil {
+			fmt.Fprint(stderr, "\r\033[K")
+		}
 	}
 
+	// Pass 1 (unless --no-fit): a bounded random sample of each patch's
+	// points, and the robust as-built fit of every analytic patch.
+	var asBuilt *fit.AsBuilt
+	var abIn []report.AsBuiltInput
+	var fitS float64
+	if !c.noFit {
+		tFit := time.Now()
+		progLabel = "sampling for the as-built fit:"
+		sampler := deviation.NewSampler(d, fitSample, c.seed)
+		if err := runPass(c, opts, d, []deviation.Sink{sampler}, nil, prog, nil); err != nil {
+			endProg()
+			return err
+		}
+		endProg()
+		asBuilt = &fit.AsBuilt{Fits: make([]*fit.SaddleResult, len(d.Patches))}
+		abIn = make([]report.AsBuiltInput, len(d.Patches))
+		for k := range d.Patches {
+			abIn[k] = fitPatch(d, k, sampler, c.seed)
+			asBuilt.Fits[k] = abIn[k].Result
+		}
+		fitS = time.Since(tFit).Seconds()
+	}
+
+	var readers []*timedReader
 	patchIDs := make([]string, len(d.Patches))
 	for i, p := range d.Patches {
 		patchIDs[i] = p.ID
 	}
-	csvw, err := report.NewPointCSV(filepath.Join(c.out, "deviations.csv"), []string(c.points), patchIDs, d.Tolerance.BandsM, report.PointCSVOptions{})
+	csvw, err := report.NewPointCSV(filepath.Join(c.out, "deviations.csv"), []string(c.points), patchIDs, d.Tolerance.BandsM, report.PointCSVOptions{Fit: !c.noFit})
 	if err != nil {
 		return err
 	}
 	defer csvw.Abort()
 	col := deviation.NewCollector(d, len(c.points))
 	sinks := []deviation.Sink{col, csvw}
-
-	var prog func(int64)
-	if isTerminal(stderr) {
-		last := time.Now()
-		prog = func(n int64) {
-			if time.Since(last) > 200*time.Millisecond {
-				last = time.Now()
-				fmt.Fprintf(stderr, "\rchecked %d points…", n)
-			}
-		}
+	var enrich []deviation.Enricher
+	if asBuilt != nil {
+		enrich = append(enrich, asBuilt)
 	}
+	progLabel = "checked"
 	tRun := time.Now()
-	err = deviation.Run(inputs, d, sinks, deviation.RunOptions{Workers: c.workers, Progress: prog})
-	if prog != nil {
-		fmt.Fprint(stderr, "\r\033[K")
-	}
+	err = runPass(c, opts, d, sinks, enrich, prog, &readers)
+	endProg()
 	if err != nil {
-		var se *deviation.SourceError
-		if errors.As(err, &se) {
-			return fmt.Errorf("%s: %w", c.points[se.Source], se.Err)
-		}
 		return err
 	}
 	runS := time.Since(tRun).Seconds()
 
 	tRep := time.Now()
 	s := report.Build(col, d)
+	if asBuilt != nil {
+		report.AddAsBuilt(s, col, d, abIn)
+	}
+	for i := range s.Worst {
+		s.Worst[i].File = c.points[s.Worst[i].Source]
+	}
+	for i := range s.WorstLocal {
+		s.WorstLocal[i].File = c.points[s.WorstLocal[i].Source]
+	}
 	s.Tool = report.Tool{Name: "saddlecheck", Version: version}
 	s.Generated = c.now()
 	for i, p := range c.points {
@@ -179,6 +207,9 @@ func check(c *checkConfig, stdout, stderr io.Writer) error {
 		return err
 	}
 	s.TimingsS = map[string]float64{"read": readS, "deviation": runS, "report": 0}
+	if asBuilt != nil {
+		s.TimingsS["fit"] = fitS
+	}
 	s.TimingsS["report"] = time.Since(tRep).Seconds()
 	if err := report.WriteHTML(filepath.Join(c.out, "report.html"), s); err != nil {
 		return err
@@ -225,4 +256,70 @@ func fileSHA256(path string) (string, error) {
 		return "", fmt.Errorf("%s: %w", path, err)
 	}
 	return hex.EncodeToString(h.Sum(nil)), nil
+}
+
+// fitSample is the largest number of points per patch the as-built fit
+// sees (a uniform random sample): enough for parameter uncertainties far
+// below the tolerance, with bounded memory whatever the scan size.
+const fitSample = 200000
+
+// runPass opens every input, streams it through the design into sinks,
+// and closes it. readers, when not nil, receives the timed readers.
+func runPass(c *checkConfig, opts cloud.Options, d *deviation.Design, sinks []deviation.Sink, enrich []deviation.Enricher,
+	prog func(int64), readers *[]*timedReader) error {
+	var inputs []deviation.Input
+	for i, p := range c.points {
+		r, err := cloud.Open(p, opts)
+		if err != nil {
+			return err
+		}
+		defer r.Close()
+		tr := &timedReader{Reader: r}
+		if readers != nil {
+			*readers = append(*readers, tr)
+		}
+		inputs = append(inputs, deviation.Input{Reader: tr, Source: i})
+	}
+	err := deviation.Run(inputs, d, sinks, deviation.RunOptions{Workers: c.workers, Progress: prog, Enrich: enrich})
+	var se *deviation.SourceError
+	if errors.As(err, &se) {
+		return fmt.Errorf("%s: %w", c.points[se.Source], se.Err)
+	}
+	return err
+}
+
+// fitPatch fits the as-built saddle of patch k from its sample, starting
+// from the design pose, and splits it against the design.
+func fitPatch(d *deviation.Design, k int, s *deviation.Sampler, seed uint64) report.AsBuiltInput {
+	p := &d.Patches[k]
+	pts := s.Points(k)
+	in := report.AsBuiltInput{Sample: len(pts)}
+	ds, ok := deviation.DesignSaddle(p)
+	if !ok {
+		in.Note = "not fitted: a " + p.Kind + " patch has no design saddle to compare with"
+		return in
+	}
+	if len(pts) < 30 {
+		in.Note = fmt.Sprintf("not fitted: only %d points on the patch (30 needed for a meaningful 8-parameter fit)", len(pts))
+		return in
+	}
+	r, err := fit.FitSaddle(pts, &fit.SaddleSettings{Start: ds, Seed: seed})
+	if err != nil {
+		in.Note = "not fitted: " + err.Error()
+		return in
+	}
+	// centroid of the inliers, summed relative to the first point so
+	// that site coordinates of 10^6 m lose nothing
+	var sum r3.Vec
+	var n float64
+	for i, q := range pts {
+		if r.Inliers[i] {
+			sum = r3.Add(sum, r3.Sub(q, pts[0]))
+			n++
+		}
+	}
+	cen := r3.Add(pts[0], r3.Scale(1/n, sum))
+	in.Result = r
+	in.Split = fit.CompareToDesign(ds, r, cen)
+	return in
 }

@@ -1,0 +1,81 @@
+package report
+
+import (
+	"fmt"
+	"math"
+
+	"saddlecheck/deviation"
+	"saddlecheck/fit"
+)
+
+// AsBuiltInput is what the check knows of one patch's as-built fit.
+type AsBuiltInput struct {
+	// Result is nil where the patch was not fitted; Note says why.
+	Result *fit.SaddleResult
+	Split  fit.Split
+	Note   string
+	Sample int // points the fit saw
+}
+
+// AddAsBuilt fills the as-built section of s: per patch the placement,
+// shape and local split, the local map and the largest local residuals.
+func AddAsBuilt(s *Summary, c *deviation.Collector, d *deviation.Design, in []AsBuiltInput) {
+	for i := range s.Patches {
+		if i >= len(in) {
+			break
+		}
+		a := in[i]
+		ab := &AsBuilt{Note: a.Note, SampleSize: a.Sample}
+		if r := a.Result; r != nil {
+			ds, _ := deviation.DesignSaddle(&d.Patches[i])
+			ab.Fitted = true
+			ab.K1 = Value{r.K1.Value, r.K1.U}
+			ab.K2 = Value{r.K2.Value, r.K2.U}
+			if ds != nil {
+				ab.DesignK1, ab.DesignK2 = ds.K1, ds.K2
+			}
+			ab.DK1Sig, ab.DK2Sig = a.Split.K1.Significant, a.Split.K2.Significant
+			ab.PlacementMM = a.Split.Offset * 1000
+			ab.TiltMgon = a.Split.Tilt * 200 / math.Pi * 1000
+			ab.Inliers, ab.Outliers = r.NumInliers, r.NumOutliers
+			ab.QuadricClass = r.Class.Kind.String()
+			ab.Solver = fmt.Sprintf("%s after %d iterations, %d evaluations", r.Solver.Status, r.Solver.Iterations, r.Solver.Evaluations)
+			if c.Local != nil && c.Local[i] != nil && c.Local[i].N() > 0 {
+				ab.RMSLocalMM = c.Local[i].RMS() * 1000
+				ab.MaxLocalMM = math.Max(math.Abs(c.Local[i].Min()), math.Abs(c.Local[i].Max())) * 1000
+			}
+		}
+		s.Patches[i].AsBuilt = ab
+	}
+	s.LocalMap = buildLocalMap(c, d, s.Map)
+	for _, w := range c.WorstLocal() {
+		wp := WorstPoint{ID: w.ID, Source: w.Source, Line: w.Line, DeviationMM: w.DevM * 1000, X: w.P.X, Y: w.P.Y, Z: w.P.Z}
+		if w.Patch >= 0 && w.Patch < len(d.Patches) {
+			wp.Patch = d.Patches[w.Patch].ID
+		}
+		s.WorstLocal = append(s.WorstLocal, wp)
+	}
+}
+
+func buildLocalMap(c *deviation.Collector, d *deviation.Design, base Map) Map {
+	m := Map{MinX: base.MinX, MinY: base.MinY, MaxX: base.MaxX, MaxY: base.MaxY, Outline: base.Outline, Labels: base.Labels}
+	if c.LocalPoints != nil {
+		for _, p := range c.LocalPoints {
+			m.Points = append(m.Points, MapPoint{X: p.X, Y: p.Y, DevMM: p.DevM * 1000})
+		}
+		return m
+	}
+	if g := c.LocalGrid; g != nil {
+		m.CellM = g.CellM
+		for j := 0; j < g.NY; j++ {
+			for i := 0; i < g.NX; i++ {
+				cell := g.Cell(i, j)
+				if cell.N > 0 {
+					m.Cells = append(m.Cells, Cell{X: g.X0 + float64(i)*g.CellM, Y: g.Y0 + float64(j)*g.CellM, N: cell.N,
+						MeanMM: cell.Mean() * 1000, MinMM: cell.Min * 1000, MaxMM: cell.Max * 1000})
+				}
+			}
+		}
+	}
+	return m
+}
