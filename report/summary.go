@@ -42,8 +42,8 @@ type Summary struct {
 	Map         Map          `json:"-"`
 	// LocalMap maps the residuals from the as-built fits; WorstLocal lists
 	// the largest of them (DeviationMM holds the residual).
-	LocalMap   Map          `json:"-"`
-	WorstLocal []WorstPoint `json:"worst_local,omitempty"`
+	LocalMap    Map          `json:"-"`
+	WorstLocal  []WorstPoint `json:"worst_local,omitempty"`
 	Uncertainty *Uncertainty `json:"uncertainty,omitempty"`
 
 	TimingsS map[string]float64 `json:"timings_s"`
