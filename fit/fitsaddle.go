@@ -18,12 +18,16 @@ import (
 type SaddleSettings struct {
 	// Start, if not nil, is the starting saddle (the design pose, site
 	// coordinates). The general-quadric RANSAC is then skipped: the robust
-	// step only separates the outliers by their distance to Start.
+	// step only separates the outliers by their distance to Start, first
+	// about the median distance (so a placement offset of the whole
+	// surface does not empty the inlier set), then to each refit.
 	Start *deviation.Saddle
 	// Up is the side the local z axis is turned to when the start comes
 	// from the quadric fit. Zero means site +Z.
 	Up r3.Vec
-	// Threshold is the inlier threshold in metres. Zero means estimated:
+	// Threshold is the inlier threshold in metres (applied to |d| from the
+	// current fit; in the first round from a Start to |d − median d|).
+	// Zero means estimated:
 	// ThresholdFactor times the robust noise estimate 1.4826·median|d| of
 	// the current model's inliers, iterated to a fixed point.
 	Threshold float64
@@ -194,20 +198,17 @@ func FitSaddle(pts []r3.Vec, s *SaddleSettings) (*SaddleResult, error) {
 
 	// 3. Robust selection and re-gating rounds.
 	signedDistances(resid, loc, &cur)
-	if set.Threshold == 0 {
-		if set.Start != nil {
-			// The design may be offset from the as-built surface: gate
-			// about the median distance first.
-			med := medianOf(resid, absd)
-			for i, d := range resid {
-				absd[i] = math.Abs(d - med)
-			}
+	if set.Start != nil {
+		// The design may be offset from the as-built surface: the first
+		// gate is about the median distance, |d − med| < T.
+		med := medianOf(resid, absd)
+		for i, d := range resid {
+			absd[i] = math.Abs(d - med)
+			resid[i] = d - med
+		}
+		if set.Threshold == 0 {
 			t0 := set.ThresholdFactor * madScale * medianOf(absd, nil)
 			T, _ = robustThreshold(absd, t0, set.ThresholdFactor)
-			// Keep the offset points: gate on |d − med| this round.
-			for i := range absd {
-				resid[i] -= med
-			}
 		}
 	}
 	mask := make([]bool, n)
@@ -286,7 +287,7 @@ func FitSaddle(pts []r3.Vec, s *SaddleSettings) (*SaddleResult, error) {
 				return nil, err
 			}
 			if math.Abs(cur.K1-prev.K1) <= 1e-9*math.Abs(cur.K1) && math.Abs(cur.K2-prev.K2) <= 1e-9*math.Abs(cur.K2) &&
-				r3.Norm(r3.Sub(cur.Origin, prev.Origin)) <= 1e-9 {
+				r3.Norm(r3.Sub(cur.Origin, prev.Origin)) <= 1e-7 {
 				break
 			}
 			prev = cur
