@@ -491,10 +491,21 @@ func fastFloat(b []byte) (float64, bool) {
 	return v, true
 }
 
-// physLine reads the next physical line into r.buf without its line end,
-// and strips a UTF-8 byte-order mark from the first line.
+// physLine returns the next physical line without its line end, valid
+// until the next call, and strips a UTF-8 byte-order mark from the first
+// line.
 func (r *csvReader) physLine() ([]byte, error) {
 	line, err := r.br.ReadSlice('\n')
+	if err == nil && r.lineNo > 0 {
+		// The common case: the line lies whole in the bufio buffer and is
+		// used (and possibly unquoted in place) before the next read.
+		r.lineNo++
+		line = line[:len(line)-1]
+		if n := len(line); n > 0 && line[n-1] == '\r' {
+			line = line[:n-1]
+		}
+		return line, nil
+	}
 	r.buf = append(r.buf[:0], line...)
 	for err == bufio.ErrBufferFull {
 		if len(r.buf) > maxLine {
@@ -570,7 +581,7 @@ func (r *csvReader) Read(c *Chunk, max int) error {
 		var line []byte
 		var no int64
 		if len(r.pending) > 0 {
-			line, no = append(r.buf[:0], r.pending[0].text...), r.pending[0].line
+			line, no = r.pending[0].text, r.pending[0].line
 			r.pending = r.pending[1:]
 		} else {
 			line, err = r.dataLine()

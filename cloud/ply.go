@@ -117,6 +117,10 @@ type plyReader struct {
 	scratch [3][]float64
 	tok     []byte
 	nonNum  bool // the last ascii scalar was no number
+	term    byte // the byte that ended the last ascii token
+	// misaligned is the first ascii vertex record (1-based) that did not
+	// end its line, or 0.
+	misaligned int64
 
 	f32    bool    // coordinates stored as float32
 	maxAbs float64 // largest |coordinate| seen, metres
@@ -479,6 +483,7 @@ func (r *plyReader) token() ([]byte, error) {
 		c, err := r.br.ReadByte()
 		if err != nil {
 			if len(r.tok) > 0 && err == io.EOF {
+				r.term = '\n'
 				return r.tok, nil
 			}
 			if err == io.EOF {
@@ -489,6 +494,7 @@ func (r *plyReader) token() ([]byte, error) {
 		r.off++
 		if c == ' ' || c == '\t' || c == '\n' || c == '\r' || c == '\f' || c == '\v' {
 			if len(r.tok) > 0 {
+				r.term = c
 				return r.tok, nil
 			}
 			continue
@@ -497,6 +503,35 @@ func (r *plyReader) token() ([]byte, error) {
 			return nil, errors.New("a value longer than 64 bytes")
 		}
 		r.tok = append(r.tok, c)
+	}
+}
+
+// lineEnds reports whether the ascii record just read ends its line
+// (blanks may follow), consuming the rest of the line when it does. One
+// record per line is how ascii PLY is written (Turk 1994); a record that
+// does not end its line means the header's properties do not match the
+// data.
+func (r *plyReader) lineEnds() bool {
+	if r.term == '\n' {
+		return true
+	}
+	for {
+		b, err := r.br.Peek(1)
+		if err != nil {
+			return true // end of file
+		}
+		switch b[0] {
+		case ' ', '\t', '\r', '\f', '\v':
+			r.br.Discard(1)
+			r.off++
+		case '\n':
+			r.br.Discard(1)
+			r.off++
+			r.term = '\n'
+			return true
+		default:
+			return false
+		}
 	}
 }
 
@@ -713,6 +748,9 @@ func (r *plyReader) readRecords(c *Chunk, n int) error {
 		}
 		c.P[i] = r3.Vec{X: xyz[0], Y: xyz[1], Z: xyz[2]}
 		c.Reject[i] = bad
+		if r.enc == plyASCII && !r.lineEnds() && r.misaligned == 0 {
+			r.misaligned = rec + 1
+		}
 	}
 	return nil
 }
@@ -750,6 +788,10 @@ func (r *plyReader) check(c *Chunk) {
 func (r *plyReader) Info() Info {
 	in := r.info
 	in.Warnings = append([]string(nil), r.info.Warnings...)
+	if r.misaligned > 0 {
+		in.Warnings = append(in.Warnings, fmt.Sprintf(
+			"vertex record %d does not end its line: the header's vertex properties may not match the data, so values may be shifted; check the file's header", r.misaligned))
+	}
 	if r.f32 && r.maxAbs > 1e4 {
 		m := float32(r.maxAbs)
 		ulp := float64(math.Nextafter32(m, float32(math.Inf(1)))) - float64(m)

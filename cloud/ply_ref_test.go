@@ -57,6 +57,9 @@ func TestPLYReference(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
+			if len(s.Info.Warnings) > 0 {
+				t.Errorf("unexpected warnings %q", s.Info.Warnings)
+			}
 			if s.Info.Format != tt.format {
 				t.Errorf("format: got %q, want %q", s.Info.Format, tt.format)
 			}

@@ -549,3 +549,34 @@ func TestScanCountsRepeatedIDs(t *testing.T) {
 		t.Errorf("got %+v, want 6 records, 3 repeats, x 0..5", s)
 	}
 }
+
+// TestPLYAsciiMisaligned checks the warning for ascii data with more values
+// per line than the header's vertex properties (one record per line: Turk
+// 1994), and its absence for trailing blanks and CRLF.
+func TestPLYAsciiMisaligned(t *testing.T) {
+	h := "ply\nformat ascii 1.0\nelement vertex 2\nproperty float x\nproperty float y\nproperty float z\nend_header\n"
+	for _, tt := range []struct {
+		body string
+		warn bool
+	}{
+		{"1 2 3\n4 5 6\n", false},
+		{"1 2 3  \t\r\n4 5 6 \r\n", false},
+		{"1 2 3", true}, // too short: an error, see below
+		{"1 2 3 9\n4 5 6 9\n", true},
+	} {
+		_, info, err := openAll(t, writeFile(t, "m.ply", []byte(h+tt.body)), Options{})
+		if tt.body == "1 2 3" {
+			if err == nil {
+				t.Errorf("%q: no error for a missing record", tt.body)
+			}
+			continue
+		}
+		if err != nil {
+			t.Fatalf("%q: %v", tt.body, err)
+		}
+		got := strings.Contains(strings.Join(info.Warnings, "\n"), "vertex record 1 does not end its line")
+		if got != tt.warn {
+			t.Errorf("%q: warnings %q, want misalignment warning %v", tt.body, info.Warnings, tt.warn)
+		}
+	}
+}
