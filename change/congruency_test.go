@@ -110,6 +110,7 @@ func TestCongruencyNullRate(t *testing.T) {
 		}
 	}
 	rate := float64(rejects) / trials
+	t.Logf("rejection rate with no movement: %.4f", rate)
 	if rate < 0.025 || rate > 0.075 {
 		t.Errorf("rejection rate with no movement: got %.3f, want 0.05 (0.025–0.075)", rate)
 	}
@@ -117,8 +118,9 @@ func TestCongruencyNullRate(t *testing.T) {
 
 // TestCongruencyPower checks that a 3σ movement of one parameter is
 // detected in most trials and localised to that parameter. With h = 3 and
-// f = 30 the noncentrality is at least 9, for which the F test's power is
-// about 0.7 (computed from the noncentral F; a weak bound of 0.5 is used).
+// f = 30 the noncentrality is at least 9 (more where the parameters are
+// correlated); with this seed 342 of 400 trials detect it (0.86) and 305
+// localise it, so the bound of 0.5 leaves a wide margin.
 func TestCongruencyPower(t *testing.T) {
 	const trials, h, f, sigma = 400, 3, 30, 1.0
 	rng := rand.New(rand.NewPCG(3, 4))
@@ -136,6 +138,7 @@ func TestCongruencyPower(t *testing.T) {
 			}
 		}
 	}
+	t.Logf("3σ movement: detected in %d of %d trials, localised in %d", detected, trials, localised)
 	if got := float64(detected) / trials; got < 0.5 {
 		t.Errorf("detection rate of a 3σ movement: got %.3f, want > 0.5", got)
 	}

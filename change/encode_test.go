@@ -2,6 +2,8 @@ package change
 
 import (
 	"encoding/json"
+	"os"
+	"path/filepath"
 	"reflect"
 	"strings"
 	"testing"
@@ -46,8 +48,41 @@ func TestEstimateJSONRoundTrip(t *testing.T) {
 	}
 }
 
+// TestEstimateTestdata decodes the testdata estimates and runs them through
+// Difference under both datum kinds: the eight-parameter estimate keeps two
+// shape parameters under bestfit.
+func TestEstimateTestdata(t *testing.T) {
+	var shape, full Estimate
+	for name, dst := range map[string]*Estimate{"estimate_shape.json": &shape, "estimate_saddle8.json": &full} {
+		b, err := os.ReadFile(filepath.Join("testdata", name))
+		if err != nil {
+			t.Fatal(err)
+		}
+		if err := json.Unmarshal(b, dst); err != nil {
+			t.Fatalf("%s: %v", name, err)
+		}
+	}
+	d, err := Difference(full, full, DatumControl, DatumBestFit)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(d.Params) != 2 || len(d.Dropped) != 6 {
+		t.Errorf("bestfit: kept %v, dropped %v; want k1, k2 kept and 6 dropped", d.Params, d.Dropped)
+	}
+	if len(shape.Params) != 2 || shape.Cov.At(1, 1) != 9e-8 {
+		t.Errorf("shape estimate: %+v", shape)
+	}
+}
+
 func FuzzEstimateJSON(f *testing.F) {
-	f.Add(`{"params":[{"name":"k1","kind":"shape"}],"value":[0.1],"cov":[[1e-8]],"dof":3}`)
+	files, _ := filepath.Glob(filepath.Join("testdata", "estimate_*.json"))
+	for _, name := range files {
+		b, err := os.ReadFile(name)
+		if err != nil {
+			f.Fatal(err)
+		}
+		f.Add(string(b))
+	}
 	f.Add(`{"params":[],"value":[],"cov":[]}`)
 	f.Fuzz(func(t *testing.T, s string) {
 		var e Estimate

@@ -79,8 +79,10 @@ func TestCompareRigidOffset(t *testing.T) {
 // means). With about 50 points per cylinder the normal quantile 1.96 is
 // close to Student's t (1.98 for 98 dof), so the expected rate is about
 // 5.3 %; with n = 4 it would be about 10 % (t with 6 dof), which is why the
-// check uses dense cylinders. 400 independent cores: binomial SE 1.1 %;
-// accepted 2.5–7.5 %.
+// check uses dense cylinders. Edge cores hold about half as many points,
+// which pushes the rate up a little more: pooled over 20 other seeds (8000
+// cores) it was 5.8 % in this session. 400 independent cores: binomial SE
+// 1.1 %; accepted 2.5–7.5 %.
 func TestCompareFalsePositiveRate(t *testing.T) {
 	const w, n, sigma = 20.0, 32000, 0.002
 	set := &Settings{CoreSpacing: 1, Radius: 0.45, HalfLength: 0.1}
@@ -93,6 +95,7 @@ func TestCompareFalsePositiveRate(t *testing.T) {
 	}
 	sum := Compare(cores, a, b, set)
 	rate := float64(sum.Significant) / float64(sum.Cores-sum.TooFewPoints)
+	t.Logf("false-positive rate: %.4f over %d cores", rate, sum.Cores-sum.TooFewPoints)
 	if rate < 0.025 || rate > 0.075 {
 		t.Errorf("false-positive rate with no movement: got %.3f, want about 0.05 (0.025–0.075)", rate)
 	}
