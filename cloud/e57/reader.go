@@ -262,6 +262,7 @@ func (r *Reader) emit(c *cloud.Chunk, s *Scan, n int) {
 	c.Line = grow(c.Line, base+n)
 	c.Reject = grow(c.Reject, base+n)
 	pts, lines, rejects := c.P[base:], c.Line[base:], c.Reject[base:]
+	clear(rejects)
 	for i := range pts {
 		r.record++
 		lines[i] = r.record
@@ -288,16 +289,17 @@ func (r *Reader) emit(c *cloud.Chunk, s *Scan, n int) {
 			if r.unit != 1 {
 				p = r3.Scale(r.unit, p)
 			}
-			if !finite(p) {
-				reject = fmt.Sprintf("not finite (%g, %g, %g)", p.X, p.Y, p.Z)
-				p = r3.Vec{}
-			} else if m := math.Max(math.Abs(p.X), math.Max(math.Abs(p.Y), math.Abs(p.Z))); m > cloud.MaxCoord {
-				reject = fmt.Sprintf("out of range (|v| = %g m > %g m)", m, float64(cloud.MaxCoord))
+			// One comparison catches NaN, ±Inf and magnitudes beyond
+			// cloud.MaxCoord; the reason is worked out only then.
+			if big := max(math.Abs(p.X), math.Abs(p.Y), math.Abs(p.Z)); !(big <= cloud.MaxCoord) {
+				reject = badValue(p, big)
 				p = r3.Vec{}
 			}
 		}
 		pts[i] = p
-		rejects[i] = reject
+		if reject != "" {
+			rejects[i] = reject
+		}
 	}
 	scanNo := float64(r.cur + 1)
 	for k := range c.Attr {
@@ -332,8 +334,13 @@ func invalidReason(state float64) string {
 	return "E57 invalid state out of range"
 }
 
-func finite(p r3.Vec) bool {
-	return !math.IsNaN(p.X+p.Y+p.Z) && !math.IsInf(p.X+p.Y+p.Z, 0)
+// badValue gives the reject reason of a point whose largest coordinate
+// magnitude m is NaN, infinite or beyond cloud.MaxCoord.
+func badValue(p r3.Vec, m float64) string {
+	if math.IsNaN(m) || math.IsInf(m, 0) {
+		return fmt.Sprintf("not finite (%g, %g, %g)", p.X, p.Y, p.Z)
+	}
+	return fmt.Sprintf("out of range (|v| = %g m > %g m)", m, float64(cloud.MaxCoord))
 }
 
 // rotation returns the row-major rotation matrix of the unit quaternion

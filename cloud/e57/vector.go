@@ -86,20 +86,31 @@ func (s *stream) decode(dst []float64) {
 		}
 		bit := s.bit
 		buf := s.buf[:len(s.buf)+streamPad]
-		scaled := f.Type == "ScaledInteger"
-		for i := range dst {
-			o, sh := bit/8, bit%8
-			v := le.Uint64(buf[o:]) >> sh
-			if sh+w > 64 {
-				v |= uint64(buf[o+8]) << (64 - sh)
+		lo := f.Min
+		if w <= 56 {
+			// A value of ≤ 56 bits at any bit shift 0–7 lies within one
+			// 64-bit little-endian load.
+			for i := range dst {
+				v := le.Uint64(buf[bit/8:]) >> (bit % 8)
+				dst[i] = float64(int64(v&mask) + lo)
+				bit += w
 			}
-			raw := int64(v&mask) + f.Min
-			if scaled {
-				dst[i] = float64(raw)*f.Scale + f.Offset
-			} else {
-				dst[i] = float64(raw)
+		} else {
+			for i := range dst {
+				o, sh := bit/8, bit%8
+				v := le.Uint64(buf[o:]) >> sh
+				if sh+w > 64 {
+					v |= uint64(buf[o+8]) << (64 - sh)
+				}
+				dst[i] = float64(int64(v&mask) + lo)
+				bit += w
 			}
-			bit += w
+		}
+		if f.Type == "ScaledInteger" {
+			sc, off := f.Scale, f.Offset
+			for i := range dst {
+				dst[i] = dst[i]*sc + off
+			}
 		}
 	}
 	s.bit += uint64(len(dst)) * uint64(f.Bits)
