@@ -447,8 +447,8 @@ var pow10 = [...]float64{1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10,
 	1e11, 1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22}
 
 // fastFloat parses the plain decimals survey files hold ([+-]digits[.digits],
-// at most 15 significant digits, no exponent) and reports false for
-// anything else. With a mantissa m < 2^53 and 10^k ≤ 10^22 both exact in
+// a mantissa below 2^53, no exponent) and reports false for anything else.
+// With a mantissa m < 2^53 and 10^k ≤ 10^22 both exact in
 // float64, m / 10^k is one correctly rounded IEEE division, so the result
 // equals strconv.ParseFloat's (W. D. Clinger, "How to Read Floating Point
 // Numbers Accurately", PLDI 1990, the "fast path"; strconv uses the same
@@ -459,29 +459,22 @@ func fastFloat(b []byte) (float64, bool) {
 		neg, i = b[0] == '-', 1
 	}
 	var m uint64
-	nd, sig, frac, dot := 0, 0, 0, false
-	for ; i < len(b); i++ {
-		c := b[i]
-		switch {
-		case c >= '0' && c <= '9':
-			nd++
-			if m != 0 || c != '0' {
-				sig++
-				if sig > 15 {
-					return 0, false
-				}
-			}
-			m = m*10 + uint64(c-'0')
-			if dot {
-				frac++
-			}
-		case c == '.' && !dot:
-			dot = true
-		default:
-			return 0, false
-		}
+	start := i
+	for ; i < len(b) && b[i]-'0' < 10; i++ {
+		m = m*10 + uint64(b[i]-'0')
 	}
-	if nd == 0 || frac >= len(pow10) {
+	nd, frac := i-start, 0
+	if i < len(b) && b[i] == '.' {
+		i++
+		fs := i
+		for ; i < len(b) && b[i]-'0' < 10; i++ {
+			m = m*10 + uint64(b[i]-'0')
+		}
+		frac = i - fs
+		nd += frac
+	}
+	// 19 digits cannot overflow uint64; m < 2^53 is exact in float64.
+	if i != len(b) || nd == 0 || nd > 19 || m >= 1<<53 || frac >= len(pow10) {
 		return 0, false
 	}
 	v := float64(m) / pow10[frac]
