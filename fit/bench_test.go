@@ -1,6 +1,7 @@
 package fit
 
 import (
+	"path/filepath"
 	"testing"
 )
 
@@ -42,4 +43,37 @@ func benchFit(b *testing.B, n int, s *SaddleSettings) {
 	// CPU seconds per fit (user + system, all threads): on a shared
 	// machine this is steadier than wall time; wall ≈ cpu/2 on 2 idle cores.
 	b.ReportMetric((cpuSeconds()-cpu0)/float64(b.N), "cpu-s/op")
+}
+
+// BenchmarkLMNISTMGH10 solves NIST StRD MGH10 from start 1 (293
+// evaluations), the hardest of the certified problems for this solver.
+func BenchmarkLMNISTMGH10(b *testing.B) {
+	path := filepath.Join(repoRoot(b), "..", "shared", "reference", "nist-strd", "MGH10.dat")
+	d, err := parseNIST(path)
+	if err != nil {
+		b.Skipf("MGH10.dat not available: %v", err)
+	}
+	p := d.problem(nistModels["MGH10"])
+	set := &Settings{FTol: 1e-15, XTol: 1e-15, MaxEvaluations: 5000}
+	b.ReportAllocs()
+	for i := 0; i < b.N; i++ {
+		if _, err := LevenbergMarquardt(p, d.start1, set); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+// BenchmarkRANSACQuadric100k runs the general-quadric RANSAC alone on
+// 10⁵ points with 15 % outliers.
+func BenchmarkRANSACQuadric100k(b *testing.B) {
+	truth := synthSaddle()
+	pts, _ := synthPoints(&truth, workloadOptions(100_000, 0.12, 0.03, 8))
+	m := NewQuadricModel(pts)
+	b.ReportAllocs()
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		if _, err := RANSAC[Quadric](m, pts, nil); err != nil {
+			b.Fatal(err)
+		}
+	}
 }

@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"math"
 	"runtime"
-	"sync"
 
 	"gonum.org/v1/gonum/mat"
 )
@@ -392,33 +391,30 @@ func reduceQR(r, qtf, acnorm []float64, jac *mat.Dense, f []float64) bool {
 	if m >= 1<<15 {
 		workers = runtime.GOMAXPROCS(0)
 	}
-	type part struct {
-		r, qtf, sq []float64
-	}
+	// Part 0 accumulates into the outputs; the others into their own.
+	type part struct{ r, qtf, sq, row []float64 }
 	parts := make([]part, workers)
-	var wg sync.WaitGroup
-	for w := 0; w < workers; w++ {
-		lo, hi := m*w/workers, m*(w+1)/workers
-		parts[w] = part{make([]float64, n*n), make([]float64, n), make([]float64, n)}
-		wg.Add(1)
-		go func(pt part) {
-			defer wg.Done()
-			row := make([]float64, n)
-			for i := lo; i < hi; i++ {
-				src := raw.Data[i*raw.Stride : i*raw.Stride+n]
-				copy(row, src)
-				for j, v := range row {
-					pt.sq[j] += v * v
-				}
-				foldRow(pt.r, pt.qtf, n, row, f[i])
-			}
-		}(parts[w])
+	for w := range parts {
+		if w == 0 {
+			clear(r)
+			clear(qtf)
+			clear(acnorm)
+			parts[0] = part{r, qtf, acnorm, make([]float64, n)}
+			continue
+		}
+		parts[w] = part{make([]float64, n*n), make([]float64, n), make([]float64, n), make([]float64, n)}
 	}
-	wg.Wait()
-	copy(r, parts[0].r)
-	copy(qtf, parts[0].qtf)
-	copy(acnorm, parts[0].sq)
-	row := make([]float64, n)
+	parallelBlocksN(m, workers, func(w, lo, hi int) {
+		pt := parts[w]
+		for i := lo; i < hi; i++ {
+			copy(pt.row, raw.Data[i*raw.Stride:i*raw.Stride+n])
+			for j, v := range pt.row {
+				pt.sq[j] += v * v
+			}
+			foldRow(pt.r, pt.qtf, n, pt.row, f[i])
+		}
+	})
+	row := parts[0].row
 	for _, pt := range parts[1:] {
 		for i := 0; i < n; i++ {
 			copy(row, pt.r[i*n:i*n+n])
