@@ -129,7 +129,10 @@ func histogram(a *deviation.Acc, t deviation.Tolerance) Histogram {
 	if n := len(t.BandsM); n > 0 && t.BandsM[n-1] > span {
 		span = t.BandsM[n-1]
 	}
-	lo, hi := math.Max(a.Min(), -span*1.25), math.Min(a.Max(), span*1.25)
+	// symmetric about zero, wide enough for the data and both limit lines
+	ext := math.Max(math.Max(-a.Min(), a.Max()), t.LimitM*1.2)
+	ext = math.Min(ext, span*1.25)
+	lo, hi := -ext, ext
 	spanMM := math.Max(hi-lo, t.LimitM) * 1000
 	bin := niceStep(spanMM / 40)
 	from := math.Floor(lo*1000/bin) * bin

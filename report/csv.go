@@ -82,7 +82,7 @@ func (w *PointCSV) Consume(r *deviation.Result) error {
 		b = appendField(b, c.PointID(i))
 		st := r.Status[i]
 		if st == deviation.StatusRejected {
-			b = append(b, ",,,,,,,"...)
+			b = append(b, ",,,,,,"...)
 		} else {
 			p := c.P[i]
 			b = append(b, ',')

@@ -1,0 +1,279 @@
+package main
+
+import (
+	"bytes"
+	"encoding/csv"
+	"encoding/json"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"testing"
+)
+
+func runArgs(t *testing.T, args ...string) (int, string, string) {
+	t.Helper()
+	var out, errb bytes.Buffer
+	code := run(args, &out, &errb)
+	return code, out.String(), errb.String()
+}
+
+func readCSV(t *testing.T, path string) [][]string {
+	t.Helper()
+	f, err := os.Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	r := csv.NewReader(f)
+	r.FieldsPerRecord = -1
+	rows, err := r.ReadAll()
+	if err != nil {
+		t.Fatalf("%s does not parse as CSV (encoding/csv, RFC 4180): %v", path, err)
+	}
+	return rows
+}
+
+// TestDemoEndToEnd runs the demo and checks the contract of every output
+// file: all four exist, every input record is in deviations.csv in input
+// order with its status, and summary.json has the documented keys.
+func TestDemoEndToEnd(t *testing.T) {
+	dir := t.TempDir()
+	code, stdout, stderr := runArgs(t, "demo", "--out", dir)
+	if code != exitOK {
+		t.Fatalf("demo exit %d, stderr:\n%s", code, stderr)
+	}
+	if !strings.Contains(stdout, "report.html") {
+		t.Errorf("demo does not say where the report is:\n%s", stdout)
+	}
+	for _, f := range []string{"deviations.csv", "summary.json", "patches.csv", "report.html"} {
+		if st, err := os.Stat(filepath.Join(dir, f)); err != nil || st.Size() == 0 {
+			t.Errorf("demo output %s missing or empty (%v)", f, err)
+		}
+	}
+	ents, _ := os.ReadDir(dir)
+	for _, e := range ents {
+		if strings.Contains(e.Name(), ".tmp-") {
+			t.Errorf("temporary file left behind: %s", e.Name())
+		}
+	}
+	var s map[string]any
+	b, _ := os.ReadFile(filepath.Join(dir, "summary.json"))
+	if err := json.Unmarshal(b, &s); err != nil {
+		t.Fatal(err)
+	}
+	for _, k := range []string{"points_read", "points_used", "verdict", "timings_s", "patches", "tolerance", "basis", "sign_convention", "cautions"} {
+		if _, ok := s[k]; !ok {
+			t.Errorf("summary.json lacks %q", k)
+		}
+	}
+	for _, k := range []string{"read", "deviation", "report"} {
+		if _, ok := s["timings_s"].(map[string]any)[k]; !ok {
+			t.Errorf("timings_s lacks %q", k)
+		}
+	}
+	for _, p := range s["patches"].([]any) {
+		for _, k := range []string{"id", "n", "mean_mm", "rms_mm", "max_abs_mm", "share_within_limit", "verdict"} {
+			if _, ok := p.(map[string]any)[k]; !ok {
+				t.Errorf("patch lacks %q", k)
+			}
+		}
+	}
+	if s["verdict"] != "nonconforming" {
+		t.Errorf("demo verdict %v, want nonconforming (its SE patch sags by design)", s["verdict"])
+	}
+
+	rows := readCSV(t, filepath.Join(dir, "deviations.csv"))
+	head := strings.Join(rows[0], ",")
+	if !strings.HasPrefix(head, "id,x,y,z,patch,deviation_mm,band,status,reason") {
+		t.Errorf("deviations.csv header %q", head)
+	}
+	pointsRead := int(s["points_read"].(float64))
+	if len(rows)-1 != pointsRead {
+		t.Errorf("deviations.csv has %d rows, summary says %d points read", len(rows)-1, pointsRead)
+	}
+	// every data line of the shot file appears once, in order
+	shots, _ := os.ReadFile(filepath.Join(dir, "input", "shots.csv"))
+	var dataLines []int
+	for i, l := range strings.Split(strings.TrimRight(string(shots), "\n"), "\n") {
+		if i >= 1 && !strings.HasPrefix(l, "#") && !strings.HasPrefix(l, "Point,") {
+			dataLines = append(dataLines, i+1)
+		}
+	}
+	if len(dataLines) != pointsRead {
+		t.Errorf("shot file has %d data lines, %d points read", len(dataLines), pointsRead)
+	}
+	col := map[string]int{}
+	for i, h := range rows[0] {
+		col[h] = i
+	}
+	counts := map[string]int{}
+	for i, r := range rows[1:] {
+		counts[r[col["status"]]]++
+		if i < len(dataLines) {
+			if ln, _ := strconv.Atoi(r[col["line"]]); ln != dataLines[i] {
+				t.Fatalf("row %d has line %d, want %d (input order)", i+1, ln, dataLines[i])
+			}
+		}
+		if r[col["status"]] == "rejected" && r[col["reason"]] == "" {
+			t.Errorf("rejected row %d has no reason", i+1)
+		}
+	}
+	for _, st := range []string{"used", "outside", "far", "rejected"} {
+		if counts[st] == 0 {
+			t.Errorf("the demo should exercise status %q", st)
+		}
+	}
+	if counts["rejected"] != 3 {
+		t.Errorf("demo has 3 bad rows, got %d rejected", counts["rejected"])
+	}
+}
+
+// hyparFixture writes a design of the worked-example hypar — corners
+// (0,0,0), (L,0,0), (L,L,h), (0,L,0), i.e. z = (h/L²)·x·y (FIELD.md §4.3,
+// an analytic-geometry identity) — placed at a site offset, and points at
+// known signed distances along the surface normal.
+func hyparFixture(t *testing.T, dir string, offsets []float64) (design, points string) {
+	t.Helper()
+	const L, h = 10.0, 2.0
+	const e0, n0 = 500000.0, 5000000.0
+	design = filepath.Join(dir, "design.yaml")
+	y := fmt.Sprintf(`structure: worked-example hypar
+units: m
+normal: up
+patches:
+  - id: P
+    corners: [[%[1]f, %[2]f, 0], [%[3]f, %[2]f, 0], [%[3]f, %[4]f, %[5]f], [%[1]f, %[4]f, 0]]
+tolerance:
+  source: "test fixture"
+  limit_mm: 10
+  min_share: 0.95
+  max_abs_mm: 25
+  bands_mm: [5, 10, 20]
+`, e0, n0, e0+L, n0+L, h)
+	if err := os.WriteFile(design, []byte(y), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	var b strings.Builder
+	b.WriteString("id,e,n,z\n")
+	c := h / (L * L)
+	for i, d := range offsets {
+		// a point on z = c·x·y with its unit normal (−c·y, −c·x, 1)/|·|
+		x := 1 + 8*float64(i%7)/6
+		yy := 1 + 8*float64((i/7)%7)/6
+		z := c * x * yy
+		nx, ny, nz := -c*yy, -c*x, 1.0
+		nn := math.Sqrt(nx*nx + ny*ny + nz*nz)
+		fmt.Fprintf(&b, "P%d,%.9f,%.9f,%.9f\n", i, e0+x+d*nx/nn, n0+yy+d*ny/nn, z+d*nz/nn)
+	}
+	points = filepath.Join(dir, "points.csv")
+	if err := os.WriteFile(points, []byte(b.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	return design, points
+}
+
+// TestCheckAgainstAnalyticHypar: points displaced by known distances along
+// the normal of z = c·x·y come out with exactly those signed deviations,
+// and the exit code follows the verdict.
+func TestCheckAgainstAnalyticHypar(t *testing.T) {
+	tests := []struct {
+		name    string
+		offsets []float64 // metres
+		code    int
+		verdict string
+	}{
+		{"within", []float64{0.004, -0.003, 0.0099, -0.0099, 0, 0.002, -0.007, 0.001}, exitOK, "conforming"},
+		{"beyond", []float64{0.004, -0.030, 0.012, -0.011, 0, 0.002, 0.06, 0.001}, exitVerdict, "nonconforming"},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			dir := t.TempDir()
+			design, points := hyparFixture(t, dir, tc.offsets)
+			out := filepath.Join(dir, "out")
+			code, _, stderr := runArgs(t, "check", "--design", design, "--points", points, "--out", out)
+			if code != tc.code {
+				t.Fatalf("exit %d, want %d; stderr %s", code, tc.code, stderr)
+			}
+			rows := readCSV(t, filepath.Join(out, "deviations.csv"))
+			if len(rows)-1 != len(tc.offsets) {
+				t.Fatalf("%d rows, want %d", len(rows)-1, len(tc.offsets))
+			}
+			for i, r := range rows[1:] {
+				got, err := strconv.ParseFloat(r[5], 64)
+				if err != nil {
+					t.Fatalf("row %d deviation %q", i, r[5])
+				}
+				if want := tc.offsets[i] * 1000; math.Abs(got-want) > 0.005 {
+					t.Errorf("point %d: deviation %.3f mm, want %.3f mm", i, got, want)
+				}
+			}
+			var s struct{ Verdict string }
+			b, _ := os.ReadFile(filepath.Join(out, "summary.json"))
+			json.Unmarshal(b, &s)
+			if s.Verdict != tc.verdict {
+				t.Errorf("verdict %q, want %q", s.Verdict, tc.verdict)
+			}
+		})
+	}
+}
+
+// TestInputErrors: bad input exits 2 with a message naming the file and
+// the line, and leaves no report behind.
+func TestInputErrors(t *testing.T) {
+	dir := t.TempDir()
+	design, points := hyparFixture(t, dir, []float64{0, 0.001})
+	badDesign := filepath.Join(dir, "bad.yaml")
+	b, _ := os.ReadFile(design)
+	os.WriteFile(badDesign, []byte(strings.Replace(string(b), "normal: up", "normal: up\ncolour: blue", 1)), 0o644)
+	mostlyBad := filepath.Join(dir, "mostly-bad.csv")
+	os.WriteFile(mostlyBad, []byte("id,e,n,z\n1,500001,5000001,0.02\n2,x,y,z\n3,,,\n4,a,b,c\n"), 0o644)
+	tests := []struct {
+		name string
+		args []string
+		want []string
+	}{
+		{"unknown design key", []string{"check", "--design", badDesign, "--points", points}, []string{"bad.yaml", ":4", "colour"}},
+		{"missing points file", []string{"check", "--design", design, "--points", filepath.Join(dir, "nope.csv")}, []string{"nope.csv"}},
+		{"mostly bad rows", []string{"check", "--design", design, "--points", mostlyBad}, []string{"mostly-bad.csv", "line"}},
+		{"no flags", []string{"check"}, []string{"--design"}},
+		{"bad unit", []string{"check", "--design", design, "--points", points, "--units", "furlong"}, []string{"furlong"}},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			out := filepath.Join(t.TempDir(), "out")
+			code, _, stderr := runArgs(t, append(tc.args, "--out", out)...)
+			if code != exitUsage {
+				t.Fatalf("exit %d, want %d; stderr %s", code, exitUsage, stderr)
+			}
+			for _, w := range tc.want {
+				if !strings.Contains(stderr, w) {
+					t.Errorf("error %q does not name %q", stderr, w)
+				}
+			}
+			if _, err := os.Stat(filepath.Join(out, "summary.json")); err == nil {
+				t.Errorf("a failed check left a summary.json")
+			}
+		})
+	}
+}
+
+// TestHelp: every command has --help with an example, exit 0.
+func TestHelp(t *testing.T) {
+	for name := range commands {
+		t.Run(name, func(t *testing.T) {
+			code, _, stderr := runArgs(t, name, "--help")
+			if code != exitOK {
+				t.Errorf("%s --help exit %d", name, code)
+			}
+			if !strings.Contains(stderr, "Example") {
+				t.Errorf("%s --help has no example:\n%s", name, stderr)
+			}
+		})
+	}
+	if code, _, _ := runArgs(t, "frobnicate"); code != exitUsage {
+		t.Errorf("unknown command exit %d, want 2", code)
+	}
+}
