@@ -83,7 +83,7 @@ type csvReader struct {
 	buf     []byte    // current line
 	fields  []span
 	arena   []byte // id and code bytes of the current chunk
-	strs    []span // per record: id span, code span
+	ends    []int  // per record: end of its id, end of its code in arena
 
 	rows, rejected int64
 	firstBad       int64
@@ -349,47 +349,33 @@ func delimName(d byte) string {
 // refilled.
 func split(dst []span, line []byte, delim byte) []span {
 	dst = dst[:0]
-	blank := func(c byte) bool { return c == ' ' || (c == '\t' && delim != '\t') }
-	isDelim := func(c byte) bool {
-		if delim == 0 {
-			return c == ' ' || c == '\t'
-		}
-		return c == delim
-	}
 	n := len(line)
+	tab := delim != '\t' // a tab is a blank unless it is the delimiter
 	i := 0
 	for {
-		for i < n && blank(line[i]) {
+		for i < n && (line[i] == ' ' || tab && line[i] == '\t') {
 			i++
 		}
 		if delim == 0 && i >= n {
 			break
 		}
 		start, end := i, i
-		if i < n && line[i] == '"' {
-			w := i
-			for i++; i < n; i++ {
-				if line[i] == '"' {
-					if i+1 < n && line[i+1] == '"' {
-						i++
-					} else {
-						i++
-						break
-					}
-				}
-				line[w] = line[i]
-				w++
-			}
-			end = w
-			for i < n && !isDelim(line[i]) {
+		quoted := i < n && line[i] == '"'
+		if quoted {
+			end, i = unquote(line, i)
+		}
+		if delim == 0 {
+			for i < n && line[i] != ' ' && line[i] != '\t' {
 				i++
 			}
 		} else {
-			for i < n && !isDelim(line[i]) {
+			for i < n && line[i] != delim {
 				i++
 			}
+		}
+		if !quoted {
 			end = i
-			for end > start && blank(line[end-1]) {
+			for end > start && (line[end-1] == ' ' || tab && line[end-1] == '\t') {
 				end--
 			}
 		}
@@ -400,6 +386,25 @@ func split(dst []span, line []byte, delim byte) []span {
 		i++
 	}
 	return dst
+}
+
+// unquote removes the quotes of the field that starts with '"' at line[q],
+// in place, turning "" into ". It returns the end of the unquoted text and
+// the index after the closing quote (len(line) when there is none).
+func unquote(line []byte, q int) (end, next int) {
+	w, i := q, q+1
+	for ; i < len(line); i++ {
+		if line[i] == '"' {
+			if i+1 < len(line) && line[i+1] == '"' {
+				i++
+			} else {
+				return w, i + 1
+			}
+		}
+		line[w] = line[i]
+		w++
+	}
+	return w, i
 }
 
 // splitStrings splits a copy of line into strings.
@@ -563,12 +568,12 @@ func (r *csvReader) Read(c *Chunk, max int) error {
 	if r.err != nil {
 		return r.err
 	}
-	if r.strs == nil {
-		// Room for a typical shot file's chunk without regrowing.
-		n := min(max, 1<<14)
-		r.strs, r.arena = make([]span, 0, 2*n), make([]byte, 0, 16*n)
+	if r.ends == nil {
+		// Room for a chunk without regrowing.
+		n := min(max, DefaultChunk)
+		r.ends, r.arena = make([]int, 0, 2*n), make([]byte, 0, 12*n)
 	}
-	r.arena, r.strs = r.arena[:0], r.strs[:0]
+	r.arena, r.ends = r.arena[:0], r.ends[:0]
 	var err error
 	for c.Len() < max {
 		var line []byte
@@ -691,11 +696,10 @@ func (r *csvReader) row(c *Chunk, line []byte, no int64) {
 	c.P = append(c.P, r3.Vec{X: p[0], Y: p[1], Z: p[2]})
 	c.Line = append(c.Line, no)
 	c.Reject = append(c.Reject, reason)
-	a := len(r.arena)
 	r.arena = append(r.arena, id...)
-	b := len(r.arena)
+	idEnd := len(r.arena)
 	r.arena = append(r.arena, code...)
-	r.strs = append(r.strs, span{a, b}, span{b, len(r.arena)})
+	r.ends = append(r.ends, idEnd, len(r.arena))
 }
 
 // coord parses coordinate text b of column name and converts it to metres;
@@ -730,13 +734,16 @@ func (r *csvReader) finishStrings(c *Chunk) {
 		return
 	}
 	s := string(r.arena)
-	for i := 0; i < len(r.strs); i += 2 {
+	a := 0
+	for i := 0; i < len(r.ends); i += 2 {
+		idEnd, codeEnd := r.ends[i], r.ends[i+1]
 		if r.idCol >= 0 {
-			c.ID = append(c.ID, s[r.strs[i].a:r.strs[i].b])
+			c.ID = append(c.ID, s[a:idEnd])
 		}
 		if r.codeCol >= 0 {
-			c.Code = append(c.Code, s[r.strs[i+1].a:r.strs[i+1].b])
+			c.Code = append(c.Code, s[idEnd:codeEnd])
 		}
+		a = codeEnd
 	}
 	r.ids.reserve(len(c.ID))
 	for i, id := range c.ID {

@@ -425,3 +425,38 @@ func TestIDSet(t *testing.T) {
 		}
 	}
 }
+
+// TestSplit checks field splitting, trimming and unquoting (quoting as in
+// RFC 4180 §2: a field in double quotes may hold the delimiter, and "" in
+// it stands for one quote).
+func TestSplit(t *testing.T) {
+	tests := []struct {
+		line  string
+		delim byte
+		want  []string
+	}{
+		{"a,b,c", ',', []string{"a", "b", "c"}},
+		{" a , b ,c ", ',', []string{"a", "b", "c"}},
+		{"a,,c,", ',', []string{"a", "", "c", ""}},
+		{`"",x`, ',', []string{"", "x"}},
+		{`"a,b","c""d"`, ',', []string{"a,b", `c"d`}},
+		{` "a;b" ;c`, ';', []string{"a;b", "c"}},
+		{`"open,end`, ',', []string{"open,end"}},
+		{"a\t\tc", '\t', []string{"a", "", "c"}},
+		{" a \t b\t", '\t', []string{"a", "b", ""}},
+		{"  a   b\t c  ", 0, []string{"a", "b", "c"}},
+		{`a "b c" d`, 0, []string{"a", "b c", "d"}},
+		{"", ',', []string{""}},
+		{"   ", 0, nil},
+	}
+	for _, tt := range tests {
+		line := []byte(tt.line)
+		var got []string
+		for _, f := range split(nil, line, tt.delim) {
+			got = append(got, string(line[f.a:f.b]))
+		}
+		if strings.Join(got, "|") != strings.Join(tt.want, "|") || len(got) != len(tt.want) {
+			t.Errorf("split(%q, %q) = %q, want %q", tt.line, tt.delim, got, tt.want)
+		}
+	}
+}

@@ -150,12 +150,12 @@ type dupCounter interface{ duplicateIDs() int64 }
 
 // MaxTrackedIDs bounds the memory of duplicate-id detection: after this many
 // distinct ids, further ids are only checked against those kept (16 bytes
-// per slot at most half full: 64 MiB at 2^21 ids).
+// per slot, at most three quarters full: 64 MiB at 2^21 ids).
 const MaxTrackedIDs = 1 << 21
 
 // idSet detects repeated point ids in bounded memory. It keeps a 64-bit
 // FNV-1a hash of each id with the line it was first seen on, in an
-// open-addressing table with linear probing, so two different ids collide
+// open-addressing table with linear probing (at most 3/4 full), so two different ids collide
 // with probability about n²/2⁶⁵ (3e-8 at 10^6 ids), an accepted risk for a
 // warning.
 type idSet struct {
@@ -169,7 +169,7 @@ type idSet struct {
 // and whether it is a repeat.
 func (s *idSet) add(id string, line int64) (int64, bool) {
 	h := fnv64(id) | 1 // never 0, the empty mark
-	if 2*(s.n+1) > len(s.keys) {
+	if 4*(s.n+1) > 3*len(s.keys) {
 		if s.n >= MaxTrackedIDs {
 			if l, ok := s.find(h); ok {
 				return l, true
@@ -196,7 +196,7 @@ func (s *idSet) add(id string, line int64) (int64, bool) {
 // growing to it step by step.
 func (s *idSet) reserve(n int) {
 	want := 1 << 14
-	for want < 2*(s.n+n) && want < 4*MaxTrackedIDs {
+	for 3*want < 4*(s.n+n) && want < 4*MaxTrackedIDs {
 		want *= 2
 	}
 	if want > len(s.keys) {
