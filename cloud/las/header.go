@@ -51,6 +51,9 @@ type Header struct {
 	// GeoKeys summarises a GeoTIFF GeoKeyDirectory (record ID 34735) as
 	// text, one "name(id)=value" per key, separated by "; ".
 	GeoKeys string
+	// Warnings lists damage the reader worked around (a broken EVLR
+	// region).
+	Warnings []string
 	// LinearUnit is the EPSG code of ProjLinearUnitsGeoKey (9001 metre,
 	// 9002 foot, 9003 US survey foot), or 0 if not given.
 	LinearUnit int
@@ -249,11 +252,27 @@ func (h *Header) readVLRs(r io.ReaderAt, size int64) error {
 	if h.NumEVLR == 0 || h.EVLRStart == 0 {
 		return h.readGeoKeys(r)
 	}
+	// EVLRs follow the points; a damaged EVLR region does not make the
+	// points unreadable, so it is reported as a warning and skipped.
+	if err := h.readEVLRs(r, size); err != nil {
+		var fe *FormatError
+		if !errors.As(err, &fe) {
+			return err // LAZ and other refusals stand
+		}
+		h.Warnings = append(h.Warnings, "EVLRs skipped: "+err.Error())
+	}
+	return h.readGeoKeys(r)
+}
+
+// readEVLRs walks the extended VLRs of LAS 1.4 after the point data.
+func (h *Header) readEVLRs(r io.ReaderAt, size int64) error {
+	var hb [evlrHeaderSize]byte
+	le := binary.LittleEndian
 	bodyEnd := int64(h.PointOffset) + h.Count*int64(h.RecordLength)
 	if h.EVLRStart > uint64(size) || int64(h.EVLRStart) < bodyEnd {
 		return &FormatError{Offset: 235, Msg: fmt.Sprintf("EVLR start %d lies outside the file after the point data (%d..%d)", h.EVLRStart, bodyEnd, size)}
 	}
-	off = int64(h.EVLRStart)
+	off := int64(h.EVLRStart)
 	for i := uint32(0); i < h.NumEVLR; i++ {
 		if off+evlrHeaderSize > size {
 			return &FormatError{Offset: off, Msg: fmt.Sprintf("EVLR %d of %d header runs past the end of the file", i+1, h.NumEVLR), Err: io.ErrUnexpectedEOF}
@@ -277,7 +296,7 @@ func (h *Header) readVLRs(r io.ReaderAt, size int64) error {
 		}
 		off = v.Offset + int64(v.Length)
 	}
-	return h.readGeoKeys(r)
+	return nil
 }
 
 // maxCRSRecord caps how much of a CRS record is read into memory.

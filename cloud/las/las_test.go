@@ -1,6 +1,8 @@
 package las
 
 import (
+	"bytes"
+	"encoding/binary"
 	"encoding/json"
 	"io"
 	"math"
@@ -462,5 +464,29 @@ func TestRegistered(t *testing.T) {
 	defer r.Close()
 	if _, ok := r.(*Reader); !ok || r.Info().Format != "las" || r.Info().Count != 1065 {
 		t.Errorf("cloud.Open gave %T %q count %d", r, r.Info().Format, r.Info().Count)
+	}
+}
+
+// TestBadEVLR moves the EVLR start of 1_4_w_evlr.las (PROVENANCE.md: one
+// EVLR at byte 32305 after 1000 records) past the end of the file: the
+// points stay readable and Info warns.
+func TestBadEVLR(t *testing.T) {
+	data, err := os.ReadFile(refFile(t, "1_4_w_evlr.las"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got := binary.LittleEndian.Uint64(data[235:]); got != 32305 {
+		t.Fatalf("EVLR start %d, PROVENANCE.md says 32305", got)
+	}
+	binary.LittleEndian.PutUint64(data[235:], uint64(len(data)+100))
+	r, err := NewReader(bytes.NewReader(data), int64(len(data)), cloud.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !hasWarning(r.Info(), "EVLRs skipped") {
+		t.Errorf("warnings %q", r.Info().Warnings)
+	}
+	if res := readAll(t, r, 0); len(res.P) != 1000 {
+		t.Errorf("read %d points, want 1000", len(res.P))
 	}
 }

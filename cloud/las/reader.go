@@ -331,6 +331,7 @@ func (r *Reader) makeInfo(opt cloud.Options) cloud.Info {
 	if h.GeoKeys != "" {
 		add("CRS GeoTIFF keys", "%s", h.GeoKeys)
 	}
+	info.Warnings = append(info.Warnings, h.Warnings...)
 	if h.PointFormat >= 6 && h.VersionMinor < 4 {
 		info.Warnings = append(info.Warnings, fmt.Sprintf("point format %d in a LAS %d.%d file (formats 6–10 belong to LAS 1.4)", h.PointFormat, h.VersionMajor, h.VersionMinor))
 	}
