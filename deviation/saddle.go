@@ -200,26 +200,60 @@ func (s *Saddle) closest(q r3.Vec) (foot r3.Vec, d, gn float64) {
 		y = qy * r2
 		s1, s2 := 1+2*a*t, 1-2*b*t
 		z := qz + t
-		// Near an interval end x = qx/s1 inherits the absolute rounding
-		// of s1 (≈ ε) as a relative error ε/s1; the constraint gives x
-		// with absolute error ≈ ε(|z| + b·y²)/(a|x|). Take the better.
-		if a > 0 && qx != 0 && s1 < 0.5 {
-			ax := math.Abs(x)
-			if (math.Abs(z)+b*y*y)/(a*ax) < ax/s1 {
-				x = math.Copysign(math.Sqrt(math.Max(0, (z+b*y*y)/a)), qx)
+		// Near an interval end x = qx/s1 is ill-conditioned: s1 carries an
+		// absolute error of a few ε, so x is uncertain by about
+		// 4ε·|x|/s1, without bound once s1 is at rounding level (the root
+		// can even sit closer to the end than float64 resolves, when
+		// |qx| is below about 1e-15·|x|, and then t stops short of it).
+		// The surface equation gives the other candidate
+		// x = sign(qx)·√((z − K2y²)/K1), uncertain by about
+		// 4ε(|z| + b·y² + |t|)/(a|x|). Both candidate feet lie on the
+		// surface. If their distances to q differ beyond rounding, the
+		// nearer is the closest point; if not, keep the more accurate.
+		if (a > 0 && qx != 0 && s1 < 0.5) || (b > 0 && qy != 0 && s2 < 0.5) {
+			if a > 0 && qx != 0 && s1 < 0.5 {
+				xc := math.Copysign(math.Sqrt(math.Max(0, (z+b*y*y)/a)), qx)
+				errQ := math.Abs(x) / s1
+				errC := (math.Abs(z) + b*y*y + math.Abs(t)) / (a * math.Abs(xc))
+				if better(dist2(q, xc, y, a, b), dist2(q, x, y, a, b), errC, errQ) {
+					x = xc
+				}
 			}
-		}
-		if b > 0 && qy != 0 && s2 < 0.5 {
-			ay := math.Abs(y)
-			if (math.Abs(z)+a*x*x)/(b*ay) < ay/s2 {
-				y = math.Copysign(math.Sqrt(math.Max(0, (a*x*x-z)/b)), qy)
+			if b > 0 && qy != 0 && s2 < 0.5 {
+				yc := math.Copysign(math.Sqrt(math.Max(0, (a*x*x-z)/b)), qy)
+				errQ := math.Abs(y) / s2
+				errC := (math.Abs(z) + a*x*x + math.Abs(t)) / (b * math.Abs(yc))
+				if better(dist2(q, x, yc, a, b), dist2(q, x, y, a, b), errC, errQ) {
+					y = yc
+				}
 			}
+			foot = r3.Vec{X: x, Y: y, Z: a*x*x - b*y*y}
+			gn = math.Sqrt(1 + 4*(a*a*x*x+b*b*y*y))
+			// t may stop short of an unresolvable root: d from the foot.
+			return foot, math.Copysign(math.Sqrt(dist2(q, x, y, a, b)), -t), gn
 		}
 	}
 	foot = r3.Vec{X: x, Y: y, Z: a*x*x - b*y*y}
 	// d = −t·|∇g(X)|: q − X = t·∇g and the +z normal is −∇g.
 	gn = math.Sqrt(1 + 4*(a*a*x*x+b*b*y*y))
 	return foot, -t * gn, gn
+}
+
+// better reports whether the constraint candidate (squared distance dc,
+// error scale errC) should replace the quotient candidate (dq, errQ): when
+// it is nearer beyond rounding (relative 1e-9 on the squared distance), or
+// when both are equally near and it is the more accurate.
+func better(dc, dq, errC, errQ float64) bool {
+	if math.Abs(dc-dq) > 1e-9*(dc+dq) {
+		return dc < dq
+	}
+	return errC < errQ
+}
+
+// dist2 is |q − (x, y, a·x² − b·y²)|².
+func dist2(q r3.Vec, x, y, a, b float64) float64 {
+	dx, dy, dz := q.X-x, q.Y-y, q.Z-(a*x*x-b*y*y)
+	return dx*dx + dy*dy + dz*dz
 }
 
 // farX reports, for qx = 0, whether the root of F lies at or beyond the

@@ -173,6 +173,7 @@ func TestClosestLocalBruteForce(t *testing.T) {
 				tc{"near", k[0], k[1], r3.Vec{X: x, Y: y, Z: z + off}},
 				tc{"on", k[0], k[1], r3.Vec{X: x, Y: y, Z: z}},
 				tc{"far100", k[0], k[1], r3.Vec{X: x, Y: y, Z: z + 100*math.Copysign(1, off)}},
+				tc{"far1000", k[0], k[1], r3.Vec{X: 1000 * rng.NormFloat64(), Y: 1000 * rng.NormFloat64(), Z: 1000 * rng.NormFloat64()}},
 				tc{"onXaxis", k[0], k[1], r3.Vec{X: x, Y: 0, Z: rng.Float64()*200 - 100}},
 				tc{"onYaxis", k[0], k[1], r3.Vec{X: 0, Y: y, Z: rng.Float64()*200 - 100}},
 				tc{"nearYaxis", k[0], k[1], r3.Vec{X: 1e-9 * off, Y: y, Z: 60}},
@@ -196,8 +197,13 @@ func TestClosestLocalBruteForce(t *testing.T) {
 		if got := r3.Norm(r3.Sub(c.q, foot)); math.Abs(got-math.Abs(d)) > tolDist*(1+bd) {
 			t.Errorf("%s: |q−foot| = %.12g, |d| = %.12g", c.name, got, math.Abs(d))
 		}
-		// Sign: positive on the +z side of the normal at the foot.
+		// First-order optimality: q − foot is parallel to the normal at
+		// the foot (the Lagrange condition, independent of the solver).
 		n := s.normalLocal(foot.X, foot.Y)
+		if cr := r3.Norm(r3.Cross(r3.Sub(c.q, foot), n)); cr > tolDist*(1+bd) {
+			t.Errorf("%s k=(%g,%g) q=%v: q − foot not along the normal (|cross| = %g)", c.name, c.k1, c.k2, c.q, cr)
+		}
+		// Sign: positive on the +z side of the normal at the foot.
 		if side := r3.Dot(r3.Sub(c.q, foot), n); bd > 1e-9 && math.Signbit(side) != math.Signbit(d) {
 			t.Errorf("%s: d = %g but (q−foot)·n = %g", c.name, d, side)
 		}
@@ -425,4 +431,46 @@ func BenchmarkSaddleProject(b *testing.B) {
 		})
 		b.ReportMetric(float64(b.N)/b.Elapsed().Seconds(), "points/s")
 	})
+}
+
+// Sweep size and seed (raised locally for longer searches).
+var seedSweep, sweepN uint64 = 51, 20000
+
+func TestClosestLocalSweep(t *testing.T) {
+	// Many points over extreme shapes and positions: the result must be
+	// finite, on the surface, satisfy the Lagrange condition (q − foot
+	// along the normal) and be no farther than the vertical distance, an
+	// upper bound on the true distance (analytic).
+	rng := rand.New(rand.NewPCG(seedSweep, 52))
+	shapes := [][2]float64{{0.02, -0.02}, {1e-8, -1e-8}, {50, -0.001}, {0.3, 0}, {0, -0.3}}
+	scales := []float64{1e-6, 1, 30, 1e3, 1e4}
+	small := []float64{0, 1e-300, 1e-12, 1e-6}
+	for i := 0; i < int(sweepN); i++ {
+		k := shapes[i%len(shapes)]
+		sc := scales[(i/5)%len(scales)]
+		s := Saddle{K1: k[0], K2: k[1], Axes: [3]r3.Vec{{X: 1}, {Y: 1}, {Z: 1}}}
+		q := r3.Vec{X: sc * rng.NormFloat64(), Y: sc * rng.NormFloat64(), Z: sc * rng.NormFloat64()}
+		switch i % 7 {
+		case 1:
+			q.X = small[rng.IntN(len(small))] * rng.NormFloat64()
+		case 2:
+			q.Y = small[rng.IntN(len(small))] * rng.NormFloat64()
+		case 3:
+			q.Z = s.Height(q.X, q.Y) // on the surface
+		}
+		foot, d := s.ClosestLocal(q)
+		scale := 1 + r3.Norm(q)
+		vert := math.Abs(q.Z - s.Height(q.X, q.Y))
+		n := s.normalLocal(foot.X, foot.Y)
+		switch {
+		case math.IsNaN(d) || math.IsInf(d, 0) || math.IsNaN(foot.X+foot.Y+foot.Z):
+			t.Fatalf("k=%v q=%v: foot %v d %g", k, q, foot, d)
+		case math.Abs(foot.Z-s.Height(foot.X, foot.Y)) > 1e-12*(1+math.Abs(foot.Z)):
+			t.Fatalf("k=%v q=%v: foot %v off the surface", k, q, foot)
+		case math.Abs(d) > vert*(1+1e-12)+1e-12*scale:
+			t.Fatalf("k=%v q=%v: |d| %g exceeds the vertical distance %g", k, q, d, vert)
+		case r3.Norm(r3.Cross(r3.Sub(q, foot), n)) > 1e-9*scale:
+			t.Fatalf("k=%v q=%v: q − foot not along the normal (%g)", k, q, r3.Norm(r3.Cross(r3.Sub(q, foot), n)))
+		}
+	}
 }
