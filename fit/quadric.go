@@ -25,6 +25,10 @@ type Quadric struct {
 	C      [10]float64
 	Centre r3.Vec  // site coordinates, metres
 	Scale  float64 // metres per normalised unit, > 0
+	// Spread is the covariance matrix of the fitted points in normalised
+	// coordinates (zero when unknown). Classify uses it to judge each
+	// quadratic term over the extent of the data.
+	Spread [3][3]float64
 }
 
 // ErrDegenerate reports a point set that does not determine a quadric
@@ -164,7 +168,7 @@ func fitQuadricNorm(pts []r3.Vec, centre r3.Vec, scale float64) (Quadric, error)
 	for _, p := range pts {
 		acc.add(r3.Vec{X: (p.X - centre.X) * inv, Y: (p.Y - centre.Y) * inv, Z: (p.Z - centre.Z) * inv})
 	}
-	q := Quadric{Centre: centre, Scale: scale}
+	q := Quadric{Centre: centre, Scale: scale, Spread: acc.spread()}
 	if err := acc.solve(&q.C); err != nil {
 		return Quadric{}, err
 	}
@@ -210,6 +214,27 @@ func (t *taubinAcc) merge(o *taubinAcc) {
 			t.nn[i][j] += o.nn[i][j]
 		}
 	}
+}
+
+// spread returns the covariance matrix of the accumulated points.
+func (t *taubinAcc) spread() [3][3]float64 {
+	if t.n == 0 {
+		return [3][3]float64{}
+	}
+	m := [3]float64{t.sz[6] / t.n, t.sz[7] / t.n, t.sz[8] / t.n}
+	// Second moments: x², y², z² are sz[0..2]; xy, xz, yz are sz[3..5].
+	sec := [3][3]float64{
+		{t.sz[0], t.sz[3], t.sz[4]},
+		{t.sz[3], t.sz[1], t.sz[5]},
+		{t.sz[4], t.sz[5], t.sz[2]},
+	}
+	var c [3][3]float64
+	for i := 0; i < 3; i++ {
+		for j := 0; j < 3; j++ {
+			c[i][j] = sec[i][j]/t.n - m[i]*m[j]
+		}
+	}
+	return c
 }
 
 func (t *taubinAcc) solve(c *[10]float64) error {
@@ -305,17 +330,23 @@ func (k QuadricKind) String() string {
 func (k QuadricKind) MarshalText() ([]byte, error) { return []byte(k.String()), nil }
 
 // RankTol is the relative tolerance below which an eigenvalue of E counts as
-// zero in Classify. An eigenvalue λᵢ (eigenvector vᵢ) is zero when
+// zero in Classify. An eigenvalue λᵢ (unit eigenvector vᵢ, half linear
+// coefficient bᵢ = ½·(c₆, c₇, c₈)·vᵢ, data extent hᵢ = 2·√(vᵢᵀΣvᵢ) along vᵢ
+// from the Spread Σ, or 1 when unknown) is zero when
 //
-//	|λᵢ| ≤ RankTol·max(‖E‖₂, |bᵢ|),   bᵢ = ½·(c₆, c₇, c₈)·vᵢ,
+//	|λᵢ|·hᵢ ≤ RankTol·|bᵢ|     (the quadratic term is negligible
+//	                             against the linear one over the data), or
+//	|λᵢ| ≤ RankTol·‖E′‖         (relative rank; ‖E′‖ the largest |λ| not
+//	                             already zero by the first test).
 //
-// in normalised coordinates, where the data lie within a few units of the
-// origin. The second term is the relevant one for a near-hypar: along vᵢ
-// the quadric is λᵢw² + 2bᵢw, and for |w| ≤ 1 the quadratic term moves the
-// surface by at most |λᵢ|/(2|bᵢ|) of a normalised unit relative to the
-// linear one, so 0.05 accepts a one-sheet hyperboloid whose third
-// eigenvalue bends the surface by under 2.5 % of the data radius across the
-// data (common practice: a noisy fit is never exactly rank 2, FIELD.md §4.2).
+// Along vᵢ the quadric is λᵢw² + 2bᵢw + …; over |w| ≤ hᵢ the quadratic term
+// changes F by |λᵢ|hᵢ² against the linear term's 2|bᵢ|hᵢ, so the first
+// test bounds the bending it adds across the data to RankTol/2 of the
+// linear change (2.5 %). It is what recognises a noisy near-hypar: a real
+// fit is never exactly rank 2 (FIELD.md §4.2), and the coefficient of the
+// squared normal coordinate is poorly determined by data that are thin
+// along the normal (common practice: judge rank with a tolerance relative
+// to the norm, here of E and of the linear part).
 const RankTol = 0.05
 
 // Classification holds the invariants of a quadric (FIELD.md §4.2).
@@ -328,10 +359,13 @@ type Classification struct {
 	DetA  float64    // det A (normalised coordinates, ‖c‖ = 1)
 	vecE  [3]r3.Vec  // eigenvectors of E, same order as EigE
 	lin   [3]float64 // bᵢ, the half linear coefficients along vecE
+	zero  [3]bool    // eigenvalue counted as zero
+	axis  int        // index of the null direction with the largest |bᵢ|
 }
 
 // Classify classifies q from the rank and signs of the eigenvalues of E and
-// A, with the rank tolerance RankTol relative to the norm:
+// A, with the rank tolerance RankTol (relative to the norms of E and of the
+// linear part):
 //
 //	rank E = 2, opposite signs, linear term along the null direction
 //	                                      → hyperbolic paraboloid
@@ -342,7 +376,8 @@ type Classification struct {
 //	eigenvalue, cones, cylinders, plane pairs) → other.
 //
 // For a hyperbolic paraboloid det A > 0 (FIELD.md §4.2); the value is
-// reported as a check.
+// reported as a check, not used, because a near-hypar fitted to noisy data
+// can have either sign.
 func Classify(q *Quadric) Classification {
 	a, e := q.Matrices()
 	var cl Classification
@@ -355,17 +390,38 @@ func Classify(q *Quadric) Classification {
 	es.VectorsTo(&vec)
 	idx := []int{0, 1, 2}
 	sort.Slice(idx, func(i, j int) bool { return math.Abs(vals[idx[i]]) < math.Abs(vals[idx[j]]) })
-	enorm := math.Abs(vals[idx[2]])
+	var h [3]float64
 	for k, i := range idx {
+		v := r3.Vec{X: vec.At(0, i), Y: vec.At(1, i), Z: vec.At(2, i)}
 		cl.EigE[k] = vals[i]
-		cl.vecE[k] = r3.Vec{X: vec.At(0, i), Y: vec.At(1, i), Z: vec.At(2, i)}
-		cl.lin[k] = 0.5 * (q.C[6]*cl.vecE[k].X + q.C[7]*cl.vecE[k].Y + q.C[8]*cl.vecE[k].Z)
+		cl.vecE[k] = v
+		cl.lin[k] = 0.5 * (q.C[6]*v.X + q.C[7]*v.Y + q.C[8]*v.Z)
+		h[k] = 1
+		if q.Spread != ([3][3]float64{}) {
+			sv := 0.0
+			vv := [3]float64{v.X, v.Y, v.Z}
+			for r := 0; r < 3; r++ {
+				for c := 0; c < 3; c++ {
+					sv += vv[r] * q.Spread[r][c] * vv[c]
+				}
+			}
+			h[k] = 2 * math.Sqrt(math.Max(sv, 0))
+		}
 	}
-	var zero [3]bool
+	enorm := 0.0
 	for k := 0; k < 3; k++ {
-		zero[k] = math.Abs(cl.EigE[k]) <= RankTol*math.Max(enorm, math.Abs(cl.lin[k]))
-		if !zero[k] {
+		cl.zero[k] = math.Abs(cl.EigE[k])*h[k] <= RankTol*math.Abs(cl.lin[k])
+		if !cl.zero[k] {
+			enorm = math.Max(enorm, math.Abs(cl.EigE[k]))
+		}
+	}
+	cl.axis = -1
+	for k := 0; k < 3; k++ {
+		cl.zero[k] = cl.zero[k] || math.Abs(cl.EigE[k]) <= RankTol*enorm
+		if !cl.zero[k] {
 			cl.RankE++
+		} else if cl.axis < 0 || math.Abs(cl.lin[k]) > math.Abs(cl.lin[cl.axis]) {
+			cl.axis = k
 		}
 	}
 	var ea mat.EigenSym
@@ -388,14 +444,36 @@ func Classify(q *Quadric) Classification {
 			cl.Kind = KindPlane
 		}
 	case 1:
-		// Zero directions are k = 0, 1; the linear term must not vanish
-		// along both.
-		if math.Hypot(cl.lin[0], cl.lin[1]) > RankTol*linNorm && zero[0] && zero[1] {
+		// The linear term must not vanish along both zero directions.
+		lz := 0.0
+		for k := 0; k < 3; k++ {
+			if cl.zero[k] {
+				lz = math.Hypot(lz, cl.lin[k])
+			}
+		}
+		if lz > RankTol*linNorm {
 			cl.Kind = KindParabolicCylinder
+			break
+		}
+		// λw² + 2bw + c = 0 along the nonzero direction: two parallel
+		// planes when b² ≥ λc (Taubin's fit of planar data degenerates to
+		// this pair, one plane through the data and one beside it).
+		for k := 0; k < 3; k++ {
+			if !cl.zero[k] && cl.lin[k]*cl.lin[k] >= cl.EigE[k]*q.C[9] {
+				cl.Kind = KindPlane
+			}
 		}
 	case 2:
-		if zero[0] && math.Abs(cl.lin[0]) > RankTol*math.Max(linNorm, enorm) {
-			if cl.EigE[1]*cl.EigE[2] < 0 {
+		var l [2]float64
+		j := 0
+		for k := 0; k < 3; k++ {
+			if !cl.zero[k] {
+				l[j] = cl.EigE[k]
+				j++
+			}
+		}
+		if math.Abs(cl.lin[cl.axis]) > RankTol*math.Max(linNorm, enorm) {
+			if l[0]*l[1] < 0 {
 				cl.Kind = KindHyperbolicParaboloid
 			} else {
 				cl.Kind = KindEllipticParaboloid
@@ -413,50 +491,92 @@ func Classify(q *Quadric) Classification {
 // unique). An eigenvalue of the wrong sign (an elliptic paraboloid) is
 // clamped to zero, which gives the nearest saddle-family member, a parabolic
 // cylinder; a plane gives K1 = K2 = 0 with the origin at the foot of the
-// centroid. It returns ErrDegenerate when the quadric has no usable linear
-// term along the null direction (a cylinder or a closed surface).
+// centroid. It returns ErrDegenerate for the other kinds (a cylinder or a
+// closed surface) and when the result is not a valid saddle.
 func NearestSaddle(q *Quadric, up r3.Vec) (deviation.Saddle, error) {
 	cl := Classify(q)
 	if r3.Norm(up) == 0 {
 		up = r3.Vec{Z: 1}
 	}
 	up = r3.Unit(up)
-	v3 := cl.vecE[0]
-	b3 := cl.lin[0]
+	if cl.axis < 0 {
+		return deviation.Saddle{}, fmt.Errorf("%w: E has no null direction (%v)", ErrDegenerate, cl.Kind)
+	}
 	c := q.C[9]
-	if cl.Kind == KindPlane {
-		// Plane: n·u + c = 0 with n = (c₆, c₇, c₈).
-		n := r3.Vec{X: q.C[6], Y: q.C[7], Z: q.C[8]}
-		nn := r3.Norm(n)
-		if nn == 0 {
-			return deviation.Saddle{}, fmt.Errorf("%w: no linear term", ErrDegenerate)
+	switch cl.Kind {
+	case KindHyperbolicParaboloid, KindEllipticParaboloid, KindParabolicCylinder:
+	case KindPlane:
+		// Plane: n·u + c = 0 with n = (c₆, c₇, c₈); or, for a plane pair
+		// λw² + 2bw + c = 0 along the eigenvector v, the root nearer the
+		// data centroid (w = 0).
+		var z, foot r3.Vec
+		if cl.RankE == 0 {
+			n := r3.Vec{X: q.C[6], Y: q.C[7], Z: q.C[8]}
+			nn := r3.Norm(n)
+			if nn == 0 {
+				return deviation.Saddle{}, fmt.Errorf("%w: no linear term", ErrDegenerate)
+			}
+			z = r3.Scale(1/nn, n)
+			foot = r3.Scale(-c/nn, z) // normalised coordinates
+		} else {
+			k := 0
+			for cl.zero[k] {
+				k++
+			}
+			l, b := cl.EigE[k], cl.lin[k]
+			disc := math.Sqrt(math.Max(0, b*b-l*c))
+			w := (-b + disc) / l
+			if w2 := (-b - disc) / l; math.Abs(w2) < math.Abs(w) {
+				w = w2
+			}
+			z = cl.vecE[k]
+			foot = r3.Scale(w, z)
 		}
-		z := r3.Scale(1/nn, n)
-		foot := r3.Scale(-c/nn, z) // normalised coordinates
 		if r3.Dot(z, up) < 0 {
 			z = r3.Scale(-1, z)
 		}
 		x := perpendicular(z)
 		return deviation.Saddle{Origin: r3.Add(q.Centre, r3.Scale(q.Scale, foot)), Axes: [3]r3.Vec{x, r3.Cross(z, x), z}}, nil
+	default:
+		return deviation.Saddle{}, fmt.Errorf("%w: the quadric is %v (rank E %d), not in the saddle family", ErrDegenerate, cl.Kind, cl.RankE)
 	}
-	if math.Abs(b3) <= 1e-12 {
+	// With the zero eigenvalues set to 0, F(w) = Σ λᵢwᵢ² + 2Σ bᵢwᵢ + c over
+	// the eigenbasis. The linear terms of all zero directions combine into
+	// one: the null axis is v₃ ∝ Σ_zero bᵢvᵢ with b₃ = |Σ_zero bᵢvᵢ|, and a
+	// second zero direction (parabolic cylinder) is replaced by the unit
+	// vector orthogonal to v₃ and to the remaining eigenvector.
+	var u r3.Vec
+	type dir struct {
+		v      r3.Vec
+		lam, b float64
+	}
+	var plane []dir
+	for k := 0; k < 3; k++ {
+		if cl.zero[k] {
+			u = r3.Add(u, r3.Scale(cl.lin[k], cl.vecE[k]))
+		} else {
+			plane = append(plane, dir{cl.vecE[k], cl.EigE[k], cl.lin[k]})
+		}
+	}
+	b3 := r3.Norm(u)
+	if b3 <= 1e-12 || len(plane) == 0 {
 		return deviation.Saddle{}, fmt.Errorf("%w: no linear term along the null direction of E", ErrDegenerate)
 	}
-	// F(w) = λ₁w₁² + λ₂w₂² + 2b₁w₁ + 2b₂w₂ + 2b₃w₃ + c, w = Vᵀu.
-	var w0 [3]float64
-	cc := c
-	var lam [2]float64
-	for k := 1; k < 3; k++ {
-		l := cl.EigE[k]
-		if l == 0 {
-			continue
-		}
-		lam[k-1] = l
-		w0[k] = -cl.lin[k] / l
-		cc -= cl.lin[k] * cl.lin[k] / l
+	v3 := r3.Scale(1/b3, u)
+	if len(plane) == 1 {
+		plane = append(plane, dir{v: r3.Unit(r3.Cross(v3, plane[0].v))})
 	}
-	// λ₁X² + λ₂Y² + 2b₃(w₃ − w₃⁰) = 0 with w₃⁰ = −cc/(2b₃).
-	w0[0] = -cc / (2 * b3)
+	// Complete the squares: wᵢ⁰ = −bᵢ/λᵢ, then
+	// λ₁X² + λ₂Y² + 2b₃(w₃ − w₃⁰) = 0 with w₃⁰ = −c′/(2b₃).
+	cc := c
+	origin := r3.Vec{}
+	for _, d := range plane {
+		if d.lam != 0 {
+			origin = r3.Add(origin, r3.Scale(-d.b/d.lam, d.v))
+			cc -= d.b * d.b / d.lam
+		}
+	}
+	origin = r3.Add(origin, r3.Scale(-cc/(2*b3), v3))
 	// Local z = σ(w₃ − w₃⁰) with σ = ±1 (z towards up), so
 	// z = −σ(λ₁X² + λ₂Y²)/(2b₃) in normalised units; K = k/Scale.
 	sigma := 1.0
@@ -464,22 +584,20 @@ func NearestSaddle(q *Quadric, up r3.Vec) (deviation.Saddle, error) {
 		sigma = -1
 	}
 	zAxis := r3.Scale(sigma, v3)
-	k1 := -sigma * lam[0] / (2 * b3) / q.Scale
-	k2 := -sigma * lam[1] / (2 * b3) / q.Scale
-	ax, ay := cl.vecE[1], cl.vecE[2]
+	k1 := -sigma * plane[0].lam / (2 * b3) / q.Scale
+	k2 := -sigma * plane[1].lam / (2 * b3) / q.Scale
+	ax := plane[0].v
 	if k1 < k2 {
 		k1, k2 = k2, k1
-		ax, ay = ay, ax
+		ax = plane[1].v
 	}
+	// An eigenvalue of the wrong sign (elliptic paraboloid) is clamped.
 	k1 = math.Max(k1, 0)
 	k2 = math.Min(k2, 0)
-	// Right-handed: y = z × x (ay is ±that; the sign of an axis does not
-	// change x² or y²).
-	_ = ay
-	originN := r3.Add(r3.Add(r3.Scale(w0[0], v3), r3.Scale(w0[1], cl.vecE[1])), r3.Scale(w0[2], cl.vecE[2]))
+	// Right-handed: y = z × x (the sign of an axis does not change x², y²).
 	s := deviation.Saddle{
 		K1: k1, K2: k2,
-		Origin: r3.Add(q.Centre, r3.Scale(q.Scale, originN)),
+		Origin: r3.Add(q.Centre, r3.Scale(q.Scale, origin)),
 		Axes:   [3]r3.Vec{ax, r3.Cross(zAxis, ax), zAxis},
 	}
 	if err := s.Validate(); err != nil {

@@ -99,3 +99,51 @@ func TestClassifyCanonical(t *testing.T) {
 		})
 	}
 }
+
+// TestClassifyNoisy classifies Taubin fits of synthetic patches (truth:
+// the analytic surface the points are drawn from) with noise along the
+// normal: gentle and strong hypars, thin small patches whose squared normal
+// coordinate the fit cannot determine, a parabolic cylinder and a plane;
+// NearestSaddle must then give back the coefficients.
+func TestClassifyNoisy(t *testing.T) {
+	tests := []struct {
+		name        string
+		k1, k2      float64
+		noise, size float64
+		want        QuadricKind
+		relK        float64
+	}{
+		{"workload hypar", 1.0 / 144, -1.0 / 81, 0.002, 30, KindHyperbolicParaboloid, 0.01},
+		{"noisy hypar 2 cm", 1.0 / 144, -1.0 / 81, 0.02, 30, KindHyperbolicParaboloid, 0.01},
+		{"small gentle patch", 1.0 / 400, -1.0 / 400, 0.005, 10, KindHyperbolicParaboloid, 0.05},
+		{"small flatter patch", 1.0 / 1000, -1.0 / 1000, 0.005, 10, KindHyperbolicParaboloid, 0.1},
+		{"very flat large patch", 1e-4, -1e-4, 0.002, 30, KindHyperbolicParaboloid, 0.05},
+		{"parabolic cylinder", 1.0 / 144, 0, 0.002, 30, KindParabolicCylinder, 0.01},
+		{"plane", 0, 0, 0.002, 30, KindPlane, 0},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			s := synthSaddle()
+			s.K1, s.K2 = tc.k1, tc.k2
+			pts, _ := synthPoints(&s, synthOptions{n: 5000, x0: 3, x1: 3 + tc.size, y0: -9, y1: -9 + tc.size, noise: tc.noise, seed: 3})
+			q, err := FitQuadric(pts)
+			if err != nil {
+				t.Fatal(err)
+			}
+			cl := Classify(&q)
+			if cl.Kind != tc.want {
+				t.Fatalf("got %v (rank E %d, eigenvalues %.3g), want %v", cl.Kind, cl.RankE, cl.EigE, tc.want)
+			}
+			got, err := NearestSaddle(&q, r3.Vec{Z: 1})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if math.Abs(got.K1-tc.k1) > tc.relK*math.Abs(tc.k1)+1e-6 || math.Abs(got.K2-tc.k2) > tc.relK*math.Abs(tc.k2)+1e-6 {
+				t.Errorf("K: got (%.4g, %.4g), want (%.4g, %.4g)", got.K1, got.K2, tc.k1, tc.k2)
+			}
+			if c := r3.Dot(got.Axes[2], s.Axes[2]); c < 0.999 {
+				t.Errorf("local z: cos %.4f to the truth", c)
+			}
+		})
+	}
+}

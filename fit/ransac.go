@@ -476,7 +476,7 @@ func (m QuadricModel) Refit(pts []r3.Vec) (Quadric, bool) {
 	for w := 1; w < workers; w++ {
 		accs[0].merge(&accs[w])
 	}
-	q := Quadric{Centre: m.Centre, Scale: m.Scale}
+	q := Quadric{Centre: m.Centre, Scale: m.Scale, Spread: accs[0].spread()}
 	if err := accs[0].solve(&q.C); err != nil {
 		return Quadric{}, false
 	}
