@@ -9,7 +9,6 @@ import (
 	"math"
 	"os"
 	"path/filepath"
-	"sort"
 	"strconv"
 	"strings"
 	"text/tabwriter"
@@ -365,7 +364,7 @@ func archiveRecheck(args []string, stdout, stderr io.Writer) error {
 	if err := json.Unmarshal(sumJSON, &sum); err != nil {
 		return fmt.Errorf("reading the check's summary: %w", err)
 	}
-	params, err := json.Marshal(paramsFromSummary(&sum))
+	params, err := json.Marshal(history.ParamsFromSummary(&sum))
 	if err != nil {
 		return err
 	}
@@ -374,32 +373,6 @@ func archiveRecheck(args []string, stdout, stderr io.Writer) error {
 	}
 	fmt.Fprintf(stdout, "stored the result of epoch %d (%s, %s)\n", e.ID, st.Name, e.Date)
 	return checkErr
-}
-
-// storedParams is the params JSON of an archived result: per patch, the
-// fitted parameter estimate.
-type storedParams struct {
-	Source  string        `json:"source"`
-	Patches []storedPatch `json:"patches"`
-}
-
-type storedPatch struct {
-	Patch    string          `json:"patch"`
-	Estimate change.Estimate `json:"estimate"`
-}
-
-// paramsFromSummary takes the as-built shape parameters of each fitted
-// patch from a check summary.
-func paramsFromSummary(s *report.Summary) storedParams {
-	p := storedParams{Source: "check summary: as-built k1, k2 with standard uncertainties; their correlation is not in the summary and is taken as zero", Patches: []storedPatch{}}
-	for _, pt := range s.Patches {
-		ab := pt.AsBuilt
-		if ab == nil || !ab.Fitted || !(ab.K1.U > 0) || !(ab.K2.U > 0) {
-			continue
-		}
-		p.Patches = append(p.Patches, storedPatch{Patch: pt.ID, Estimate: change.ShapeEstimate(ab.K1.Value, ab.K1.U, ab.K2.Value, ab.K2.U, ab.Inliers-8)})
-	}
-	return p
 }
 
 const archiveCompareHelp = `Usage: saddlecheck archive compare --archive DIR --structure NAME --from ID --to ID --out DIR [flags]
@@ -595,53 +568,19 @@ func archiveCoreGrid(a *archive.Archive, st archive.Structure, tmp string, p1, p
 	return cores, []string{"all"}, src, warn, nil
 }
 
-// archiveParamTests runs the congruency test per patch present in both
-// epochs' stored results.
+// archiveParamTests runs the parameter tests of two epochs from their
+// stored results.
 func archiveParamTests(a *archive.Archive, e1, e2 archive.Epoch, d1, d2 change.Datum) ([]history.GlobalTest, []history.ParamChange, []string) {
 	r1, err1 := storedParamsOf(a, e1.ID)
 	r2, err2 := storedParamsOf(a, e2.ID)
 	if err1 != nil || err2 != nil {
 		return nil, nil, []string{"No parameter test: both epochs need a stored check result ('saddlecheck archive recheck')."}
 	}
-	later := map[string]change.Estimate{}
-	for _, p := range r2.Patches {
-		later[p.Patch] = p.Estimate
-	}
-	var global []history.GlobalTest
-	var params []history.ParamChange
-	notes := []string{"Parameters: " + r1.Source + "."}
-	for _, p := range r1.Patches {
-		q, ok := later[p.Patch]
-		if !ok {
-			notes = append(notes, fmt.Sprintf("Patch %s has no fitted parameters in epoch %d.", p.Patch, e2.ID))
-			continue
-		}
-		diff, err := change.Difference(p.Estimate, q, d1, d2)
-		if err != nil {
-			notes = append(notes, fmt.Sprintf("Patch %s: %v.", p.Patch, err))
-			continue
-		}
-		res := change.Congruency(diff.Delta, diff.Q, diff.S0sq, diff.Dof, 0.05)
-		global = append(global, history.GlobalTest{Patch: p.Patch, Result: res, Note: diff.Note})
-		pos1, pos2 := paramIndex(p.Estimate), paramIndex(q)
-		for i, par := range diff.Params {
-			params = append(params, history.ParamChange{Patch: p.Patch, Name: par.Name,
-				From: p.Estimate.Value[pos1[par.Name]], To: q.Value[pos2[par.Name]], Test: res.Params[i]})
-		}
-	}
-	return global, params, notes
+	return history.ParameterTests(r1, r2, d1, d2, 0.05)
 }
 
-func paramIndex(e change.Estimate) map[string]int {
-	m := make(map[string]int, len(e.Params))
-	for i, p := range e.Params {
-		m[p.Name] = i
-	}
-	return m
-}
-
-func storedParamsOf(a *archive.Archive, epoch int64) (storedParams, error) {
-	var p storedParams
+func storedParamsOf(a *archive.Archive, epoch int64) (history.StoredParams, error) {
+	var p history.StoredParams
 	r, err := a.ResultOf(epoch)
 	if err != nil {
 		return p, err
@@ -691,20 +630,11 @@ func archiveHistory(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	h := &history.History{Tool: "saddlecheck " + version, Generated: time.Now(), Structure: st.Name, DesignSHA: st.DesignHash}
-	series := map[string]*history.Series{}
-	var order []string
-	addPoint := func(key, unit string, p history.Point) {
-		s, ok := series[key]
-		if !ok {
-			s = &history.Series{Name: key, Unit: unit}
-			series[key] = s
-			order = append(order, key)
-		}
-		s.Points = append(s.Points, p)
-	}
+	var sb history.SeriesBuilder
 	bestfit := 0
 	for _, e := range es {
-		h.Epochs = append(h.Epochs, archiveEpochView(e, 0))
+		ev := archiveEpochView(e, 0)
+		h.Epochs = append(h.Epochs, ev)
 		if e.Datum == archive.DatumBestFit {
 			bestfit++
 		}
@@ -718,32 +648,15 @@ func archiveHistory(args []string, stdout, stderr io.Writer) error {
 			continue
 		}
 		var sum report.Summary
-		if err := json.Unmarshal(r.Summary, &sum); err == nil && sum.Overall.N > 0 {
-			u := change.Position{Sigma: sum.Overall.StdMM, N: int(sum.Overall.N)}.U(e.RegistrationMM)
-			addPoint("mean offset from the design", "mm", history.Point{EpochID: e.ID, Date: e.Date, Year: year, Value: sum.Overall.MeanMM, U: u})
+		var sp history.StoredParams
+		sumOK := json.Unmarshal(r.Summary, &sum) == nil
+		parOK := json.Unmarshal(r.Params, &sp) == nil
+		if !sumOK || !parOK {
+			h.Warning = append(h.Warning, fmt.Sprintf("The stored result of epoch %d could not be read in full.", e.ID))
 		}
-		var sp storedParams
-		if err := json.Unmarshal(r.Params, &sp); err == nil {
-			for _, p := range sp.Patches {
-				for i, par := range p.Estimate.Params {
-					if par.Kind != change.Shape {
-						continue
-					}
-					u := math.Sqrt(p.Estimate.Cov.At(i, i))
-					if p.Estimate.Cofactor {
-						u *= math.Sqrt(p.Estimate.S0sq)
-					}
-					addPoint(fmt.Sprintf("%s (patch %s)", par.Name, p.Patch), "1/m", history.Point{EpochID: e.ID, Date: e.Date, Year: year, Value: p.Estimate.Value[i], U: u})
-				}
-			}
-		}
+		sb.Add(ev, year, ptrIf(&sum, sumOK), ptrIf(&sp, parOK))
 	}
-	sort.SliceStable(order, func(i, j int) bool { return order[i] < order[j] })
-	for _, k := range order {
-		s := series[k]
-		s.Fit(0.05)
-		h.Series = append(h.Series, *s)
-	}
+	h.Series = sb.Series(0.05)
 	switch {
 	case bestfit == 0:
 		h.Datum = "All epochs are placed on stable control: the mean offset includes any movement of the shell as a whole."
@@ -992,4 +905,12 @@ func archiveSplit(s string) []string {
 		out = append(out, strings.TrimSpace(f))
 	}
 	return out
+}
+
+// ptrIf returns p if ok, else nil.
+func ptrIf[T any](p *T, ok bool) *T {
+	if ok {
+		return p
+	}
+	return nil
 }
