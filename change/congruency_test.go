@@ -26,6 +26,9 @@ func TestFCriticalTable(t *testing.T) {
 		{"F(3,2) atozmath", 3, 2, 19.1643, tolTable},
 		{"F(2,3) atozmath", 2, 3, 9.5521, tolTable},
 		{"F(10,3) atozmath", 10, 3, 8.7855, tolTable},
+		{"F(1,3) atozmath", 1, 3, 10.1280, tolTable},
+		{"F(20,3) atozmath", 20, 3, 8.6602, tolTable},
+		{"F(4,2) atozmath", 4, 2, 19.2468, tolTable},
 		// R's qf(0.95, 2, 15) = 3.68232, printed as the example output of
 		// the daewr package's Fcrit help page (rdrr.io), confirmed with the
 		// search tool.
