@@ -41,7 +41,14 @@ type Result struct {
 	Outlier []bool
 	// Seq is the 0-based sequence number of the chunk over all inputs.
 	Seq int
+	// Encoded holds output bytes that encoders running as Enrichers (on
+	// the workers, in parallel) prepared for their sinks, one slot per
+	// encoder (see NextSlot); the sink then only writes them, in order.
+	Encoded [MaxSlots][]byte
 }
+
+// MaxSlots is the number of Result.Encoded slots.
+const MaxSlots = 4
 
 func (r *Result) reset(n int) {
 	r.Patch = resize(r.Patch, n)

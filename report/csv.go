@@ -23,6 +23,7 @@ import (
 // encoding/csv.
 type PointCSV struct {
 	f       *File
+	slot    int
 	files   []string
 	patches []string
 	bands   []string
@@ -46,12 +47,16 @@ type PointCSVOptions struct {
 
 // NewPointCSV creates path (atomically: nothing appears there until Commit)
 // for the given input file names, patch ids and tolerance bands (metres).
-func NewPointCSV(path string, files, patches []string, bandsM []float64, opt PointCSVOptions) (*PointCSV, error) {
+//
+// The rows of a chunk are formatted by Enrich on the pipeline's workers,
+// into the Result.Encoded slot given; Consume only writes them in order.
+// Pass the writer both as an Enricher (last) and as a Sink.
+func NewPointCSV(path string, slot int, files, patches []string, bandsM []float64, opt PointCSVOptions) (*PointCSV, error) {
 	f, err := Create(path)
 	if err != nil {
 		return nil, err
 	}
-	return &PointCSV{f: f, files: files, patches: patches, bandsM: bandsM, bands: BandLabels(bandsM),
+	return &PointCSV{f: f, slot: slot, files: files, patches: patches, bandsM: bandsM, bands: BandLabels(bandsM),
 		uncert: opt.Uncertainty, fit: opt.Fit, zone: opt.Zone}, nil
 }
 
@@ -66,19 +71,37 @@ func (w *PointCSV) header() {
 	w.buf = append(w.buf, '\n')
 }
 
-// Consume writes the rows of r.
+// Prepare implements deviation.Enricher; the CSV needs no extra slices.
+func (w *PointCSV) Prepare(r *deviation.Result, n int) {}
+
+// Enrich formats the rows of r into r.Encoded[slot]. It runs on the
+// workers, concurrently for different chunks, and only reads w.
+func (w *PointCSV) Enrich(r *deviation.Result) {
+	r.Encoded[w.slot] = w.format(r.Encoded[w.slot][:0], r)
+}
+
+// Consume writes the rows of r, formatted by Enrich, in input order.
 func (w *PointCSV) Consume(r *deviation.Result) error {
 	if !w.started {
 		w.started = true
 		w.header()
+		if _, err := w.f.Write(w.buf); err != nil {
+			return err
+		}
+		w.buf = w.buf[:0]
 	}
+	w.rows += int64(r.Chunk.Len())
+	_, err := w.f.Write(r.Encoded[w.slot])
+	return err
+}
+
+func (w *PointCSV) format(b []byte, r *deviation.Result) []byte {
 	c := r.Chunk
 	file := ""
 	if c.Source < len(w.files) {
 		file = w.files[c.Source]
 	}
 	for i := 0; i < c.Len(); i++ {
-		b := w.buf
 		b = appendField(b, c.PointID(i))
 		st := r.Status[i]
 		if st == deviation.StatusRejected {
@@ -86,18 +109,18 @@ func (w *PointCSV) Consume(r *deviation.Result) error {
 		} else {
 			p := c.P[i]
 			b = append(b, ',')
-			b = strconv.AppendFloat(b, p.X, 'f', 4, 64)
+			b = appendFixed(b, p.X, 4)
 			b = append(b, ',')
-			b = strconv.AppendFloat(b, p.Y, 'f', 4, 64)
+			b = appendFixed(b, p.Y, 4)
 			b = append(b, ',')
-			b = strconv.AppendFloat(b, p.Z, 'f', 4, 64)
+			b = appendFixed(b, p.Z, 4)
 			b = append(b, ',')
 			if k := r.Patch[i]; k >= 0 && int(k) < len(w.patches) {
 				b = appendField(b, w.patches[k])
 			}
 			b = append(b, ',')
 			if d := r.Dev[i]; !math.IsNaN(d) {
-				b = strconv.AppendFloat(b, d*1000, 'f', 2, 64)
+				b = appendFixed(b, d*1000, 2)
 			}
 			b = append(b, ',')
 			if st == deviation.StatusUsed {
@@ -115,7 +138,7 @@ func (w *PointCSV) Consume(r *deviation.Result) error {
 		if w.uncert {
 			b = append(b, ',')
 			if r.U != nil && st != deviation.StatusRejected && !math.IsNaN(r.U[i]) {
-				b = strconv.AppendFloat(b, r.U[i]*1000, 'f', 2, 64)
+				b = appendFixed(b, r.U[i]*1000, 2)
 				b = append(b, ',')
 				if st == deviation.StatusUsed && w.zone != nil {
 					b = append(b, w.zone(r.Dev[i], r.U[i])...)
@@ -127,7 +150,7 @@ func (w *PointCSV) Consume(r *deviation.Result) error {
 		if w.fit {
 			b = append(b, ',')
 			if r.Resid != nil && !math.IsNaN(r.Resid[i]) {
-				b = strconv.AppendFloat(b, r.Resid[i]*1000, 'f', 2, 64)
+				b = appendFixed(b, r.Resid[i]*1000, 2)
 			}
 			b = append(b, ',')
 			if r.Outlier != nil && r.Resid != nil && !math.IsNaN(r.Resid[i]) {
@@ -139,16 +162,8 @@ func (w *PointCSV) Consume(r *deviation.Result) error {
 			}
 		}
 		b = append(b, '\n')
-		w.buf = b
-		w.rows++
-		if len(w.buf) > 1<<16 {
-			if _, err := w.f.Write(w.buf); err != nil {
-				return err
-			}
-			w.buf = w.buf[:0]
-		}
 	}
-	return nil
+	return b
 }
 
 // Rows returns the number of data rows written so far.
@@ -187,4 +202,38 @@ func appendField(b []byte, s string) []byte {
 		b = append(b, s[i])
 	}
 	return append(b, '"')
+}
+
+var pow10 = [...]float64{1, 10, 100, 1000, 1e4, 1e5, 1e6}
+
+// appendFixed appends v with exactly dec decimals (dec <= 6), rounded half
+// away from zero from v·10^dec in float64. For |v·10^dec| < 2^53 this is
+// the decimal rounding of v except at exact binary ties, far below the
+// last printed digit's meaning; larger or non-finite values fall back to
+// strconv.
+func appendFixed(b []byte, v float64, dec int) []byte {
+	s := v * pow10[dec]
+	if !(math.Abs(s) < 1<<53) {
+		return strconv.AppendFloat(b, v, 'f', dec, 64)
+	}
+	n := int64(math.Round(s))
+	if n < 0 {
+		b = append(b, '-')
+		n = -n
+	} else if v < 0 && n == 0 {
+		// keep the sign of values that round to zero, as strconv does
+		b = append(b, '-')
+	}
+	ip, fp := n/int64(pow10[dec]), n%int64(pow10[dec])
+	b = strconv.AppendInt(b, ip, 10)
+	if dec > 0 {
+		b = append(b, '.')
+		var digits [6]byte
+		for k := dec - 1; k >= 0; k-- {
+			digits[k] = byte('0' + fp%10)
+			fp /= 10
+		}
+		b = append(b, digits[:dec]...)
+	}
+	return b
 }

@@ -151,7 +151,7 @@ func check(c *checkConfig, stdout, stderr io.Writer) error {
 	for i, p := range d.Patches {
 		patchIDs[i] = p.ID
 	}
-	csvw, err := report.NewPointCSV(filepath.Join(c.out, "deviations.csv"), []string(c.points), patchIDs, d.Tolerance.BandsM, report.PointCSVOptions{Fit: !c.noFit})
+	csvw, err := report.NewPointCSV(filepath.Join(c.out, "deviations.csv"), 0, []string(c.points), patchIDs, d.Tolerance.BandsM, report.PointCSVOptions{Fit: !c.noFit})
 	if err != nil {
 		return err
 	}
@@ -162,6 +162,7 @@ func check(c *checkConfig, stdout, stderr io.Writer) error {
 	if asBuilt != nil {
 		enrich = append(enrich, asBuilt)
 	}
+	enrich = append(enrich, csvw) // formats rows on the workers: last
 	progLabel = "checked"
 	tRun := time.Now()
 	err = runPass(c, opts, d, sinks, enrich, prog, &readers)

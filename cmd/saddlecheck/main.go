@@ -19,6 +19,7 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"runtime/pprof"
 	"sort"
 )
 
@@ -48,6 +49,17 @@ func register(name, summary string, run func(args []string, stdout, stderr io.Wr
 }
 
 func main() {
+	// SADDLECHECK_CPUPROFILE=FILE writes a CPU profile (go tool pprof) of
+	// the run, for performance work.
+	if path := os.Getenv("SADDLECHECK_CPUPROFILE"); path != "" {
+		if f, err := os.Create(path); err == nil {
+			pprof.StartCPUProfile(f)
+			code := run(os.Args[1:], os.Stdout, os.Stderr)
+			pprof.StopCPUProfile()
+			f.Close()
+			os.Exit(code)
+		}
+	}
 	os.Exit(run(os.Args[1:], os.Stdout, os.Stderr))
 }
 
