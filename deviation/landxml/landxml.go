@@ -103,8 +103,6 @@ type parser struct {
 	f     *File
 	cur   *TIN
 	ids   map[string]int32
-	faces [][3]string // ids of the current surface's faces, resolved at its end
-	fline []int       // line of each face, for errors
 	inDef bool
 	n     int
 }
@@ -189,7 +187,6 @@ func (p *parser) start(t xml.StartElement) error {
 		p.f.Surfaces = append(p.f.Surfaces, TIN{Name: name})
 		p.cur = &p.f.Surfaces[len(p.f.Surfaces)-1]
 		p.ids = map[string]int32{}
-		p.faces, p.fline = p.faces[:0], p.fline[:0]
 	case "Definition":
 		if p.cur == nil {
 			return nil // a Definition outside a Surface is not a TIN
@@ -215,22 +212,6 @@ func (p *parser) end(t xml.EndElement) error {
 	case "Definition":
 		p.inDef = false
 	case "Surface":
-		if p.cur == nil {
-			return nil
-		}
-		s := p.cur
-		s.Faces = make([][3]int32, 0, len(p.faces))
-		for k, f := range p.faces {
-			var tri [3]int32
-			for j, id := range f {
-				i, ok := p.ids[id]
-				if !ok {
-					return &FormatError{Line: p.fline[k], Offset: -1, Msg: fmt.Sprintf("surface %q face %d refers to point id %q, which is not defined", s.Name, k+1, id)}
-				}
-				tri[j] = i
-			}
-			s.Faces = append(s.Faces, tri)
-		}
 		p.cur = nil
 	}
 	return nil
@@ -313,8 +294,16 @@ func (p *parser) face(t xml.StartElement) error {
 	if p.n++; p.n > maxPoints {
 		return pos.errf("more than %d points and faces", maxPoints)
 	}
-	p.faces = append(p.faces, [3]string{f[0], f[1], f[2]})
-	p.fline = append(p.fline, pos.line)
+	// The schema puts Pnts before Faces, so every id is known here.
+	var tri [3]int32
+	for j, id := range f {
+		i, ok := p.ids[id]
+		if !ok {
+			return pos.errf("surface %q face %d refers to point id %q, which is not defined before it", p.cur.Name, len(p.cur.Faces)+1, id)
+		}
+		tri[j] = i
+	}
+	p.cur.Faces = append(p.cur.Faces, tri)
 	return nil
 }
 
