@@ -668,6 +668,7 @@ func (r *plyReader) readFixed(c *Chunk, n int) error {
 		r.off += int64(m)
 		src := r.buf
 		p := c.P[got : got+k]
+		fused := false // the attributes were decoded with x, y, z
 		if r.fast {
 			ox, oy, oz := v.props[r.xyz[0]].off, v.props[r.xyz[1]].off, v.props[r.xyz[2]].off
 			le := binary.LittleEndian
@@ -678,12 +679,24 @@ func (r *plyReader) readFixed(c *Chunk, n int) error {
 			const sign = 1 << 63
 			var hi uint64
 			if ox == 0 && oy == 8 && oz == 16 {
-				// x, y, z first: constant offsets, one bounds check.
+				// x, y, z first: constant offsets, one bounds check; a
+				// single uchar attribute (intensity) is decoded in the same
+				// pass.
+				var u8 []float64
+				u8off := 0
+				if a := r.attrs; len(a) == 1 && v.props[a[0]].typ == tUint8 {
+					u8, u8off = c.Attr[0].Values[got:got+k], v.props[a[0]].off
+					fused = true
+				}
 				for i, o := 0, 0; i < len(p); i, o = i+1, o+rec {
-					b := src[o : o+24]
+					b := src[o : o+rec]
+					_ = b[23]
 					ux, uy, uz := le.Uint64(b[0:8]), le.Uint64(b[8:16]), le.Uint64(b[16:24])
 					p[i] = r3.Vec{X: math.Float64frombits(ux), Y: math.Float64frombits(uy), Z: math.Float64frombits(uz)}
 					hi = max(hi, ux&^sign, uy&^sign, uz&^sign)
+					if u8 != nil {
+						u8[i] = float64(b[u8off])
+					}
 				}
 			} else {
 				b := src
@@ -707,6 +720,9 @@ func (r *plyReader) readFixed(c *Chunk, n int) error {
 			}
 		}
 		for a, j := range r.attrs {
+			if fused {
+				break
+			}
 			pr := v.props[j]
 			decodeColumn(c.Attr[a].Values[got:got+k], src, rec, pr.off, pr.typ, r.swap)
 		}

@@ -152,7 +152,14 @@ func plyCases() map[string][]telem {
 	for k := 0; k < 70000; k++ { // more than DefaultChunk and more than one block
 		fast.rows = append(fast.rows, []float64{500000.001 * (1 + float64(k)/7e4), 5000000.017 - float64(k), 100.125, float64(k % 256)})
 	}
+	var shifted telem // double x, y, z after other properties: the fast path with offsets
+	shifted.name = "vertex"
+	shifted.props = []tprop{{typ: "uchar", name: "flag"}, {typ: "double", name: "z"}, {typ: "double", name: "x"}, {typ: "float", name: "w"}, {typ: "double", name: "y"}}
+	for k := 0; k < 100; k++ {
+		shifted.rows = append(shifted.rows, []float64{float64(k), -1.5 * float64(k), 500000.125 + float64(k), 0.25, 5000000.5 - float64(k)})
+	}
 	return map[string][]telem{
+		"double xyz after other properties": {fixedBefore, shifted},
 		"all types fixed":      {fixedBefore, allTypesVertex(false), after},
 		"all types with lists": {before, allTypesVertex(true), after},
 		"double xyz fast path": {fast},
