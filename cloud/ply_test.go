@@ -160,9 +160,9 @@ func plyCases() map[string][]telem {
 	}
 	return map[string][]telem{
 		"double xyz after other properties": {fixedBefore, shifted},
-		"all types fixed":      {fixedBefore, allTypesVertex(false), after},
-		"all types with lists": {before, allTypesVertex(true), after},
-		"double xyz fast path": {fast},
+		"all types fixed":                   {fixedBefore, allTypesVertex(false), after},
+		"all types with lists":              {before, allTypesVertex(true), after},
+		"double xyz fast path":              {fast},
 	}
 }
 
