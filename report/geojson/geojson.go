@@ -200,6 +200,9 @@ func (w *Writer) Add(p Point) {
 	w.fold(p)
 }
 
+// folding reports whether the writer has switched to cells.
+func (w *Writer) folding() bool { return w.cells != nil }
+
 func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
 
 // autoCell picks a round cell side giving about DefaultCells cells over the
