@@ -775,16 +775,9 @@ func (d *Design) Classify(x r3.Vec) (patch int, pr Projection, st Status) {
 
 // boxDist2 is the squared distance from x to the box [lo, hi].
 func boxDist2(x, lo, hi r3.Vec) float64 {
-	out := func(v, l, h float64) float64 {
-		switch {
-		case v < l:
-			return l - v
-		case v > h:
-			return v - h
-		}
-		return 0
-	}
-	dx, dy, dz := out(x.X, lo.X, hi.X), out(x.Y, lo.Y, hi.Y), out(x.Z, lo.Z, hi.Z)
+	dx := max(lo.X-x.X, x.X-hi.X, 0)
+	dy := max(lo.Y-x.Y, x.Y-hi.Y, 0)
+	dz := max(lo.Z-x.Z, x.Z-hi.Z, 0)
 	return dx*dx + dy*dy + dz*dz
 }
 

@@ -147,12 +147,16 @@ const FootTol = 1e-10
 // Near an end (|qx| tiny) the same constraint formula gives x more
 // accurately than qx/(1+2K1t), and the better of the two is used.
 //
-// Accuracy: foot and distance to about 1e-10 m for |q| up to 10^4 m,
-// except at the focal points of the principal sections (q on an axis at
-// the branch point), where the foot itself is ill-conditioned and only d
-// keeps that accuracy. The distance is computed as d = −t·|∇g(X)|, which
-// carries its sign and avoids cancellation for points on the surface.
-// ClosestLocal does not allocate.
+// Accuracy: distance to about 1e-10 m (relative 1e-13 for far points)
+// for |q| up to 10^4 m, checked against independent minimisations. The
+// foot has the same accuracy except near the centres of curvature of the
+// surface (its evolute, e.g. an axis point at the focal distance), where
+// the distance is stationary along the surface, the foot is
+// ill-conditioned and only d keeps that accuracy. The distance is
+// d = −t·|∇g(X)|, which carries its sign and avoids cancellation for
+// points on the surface (from the foot, where t is at a bracket end).
+// ClosestLocal does not allocate; a point within centimetres of a shell
+// costs two Newton evaluations and four divisions.
 //
 // References: D. Eberly, "Distance from a Point to an Ellipse, an
 // Ellipsoid, or a Hyperellipsoid", Geometric Tools (the bracketing and the
