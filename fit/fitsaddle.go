@@ -245,11 +245,12 @@ func FitSaddle(pts []r3.Vec, s *SaddleSettings) (*SaddleResult, error) {
 		if err != nil {
 			return nil, err
 		}
-		signedDistances(resid, loc, &cur)
 		if final {
-			// The mask and threshold stay those of the points just solved.
+			// The mask and threshold stay those of the points just solved;
+			// the residuals are set after the optional IRLS.
 			break
 		}
+		signedDistances(resid, loc, &cur)
 		if set.Threshold == 0 {
 			for i, d := range resid {
 				absd[i] = math.Abs(d)
@@ -292,8 +293,24 @@ func FitSaddle(pts []r3.Vec, s *SaddleSettings) (*SaddleResult, error) {
 			}
 			prev = cur
 		}
-		signedDistances(resid, loc, &cur)
 	}
+	// Residuals of all points: the inliers' come from the last solve (the
+	// problem's points are the inliers in order), the others are computed.
+	prob.ensure(sol.X)
+	j := 0
+	for i, in := range mask {
+		if in {
+			resid[i] = prob.dist[j]
+			j++
+		}
+	}
+	parallelBlocks(n, func(lo, hi int) {
+		for i := lo; i < hi; i++ {
+			if !mask[i] {
+				_, resid[i] = cur.ClosestLocal(cur.ToLocal(loc[i]))
+			}
+		}
+	})
 	res.Solver = *sol
 	res.Threshold = T
 	res.Residuals = resid

@@ -74,6 +74,12 @@ func TestFitSaddleRecovery(t *testing.T) {
 				t.Errorf("K: got (%g, %g) ± (%g, %g), want (%g, %g)", res.K1.Value, res.K2.Value, res.K1.U, res.K2.U, truth.K1, truth.K2)
 			}
 			saddleClose(t, &res.Saddle, &truth, 1e-3, 1e-3, 0.001, workloadPatch)
+			for i := 0; i < 200; i++ {
+				_, d := res.Saddle.ClosestLocal(res.Saddle.ToLocal(pts[i]))
+				if math.Abs(d-res.Residuals[i]) > 1e-8 {
+					t.Fatalf("residual %d (inlier %v): got %v, want %v", i, res.Inliers[i], res.Residuals[i], d)
+				}
+			}
 		})
 	}
 }
