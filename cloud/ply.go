@@ -113,7 +113,14 @@ type plyReader struct {
 	recheck bool
 
 	done    int64 // vertex records returned
-	buf     []byte
+
+	// Prefetching of fixed-size binary records (see prefetch).
+	full, free chan *block
+	quit       chan struct{}
+	cur        *block // block being decoded, from r.pos on
+	pos        int
+	vertAt     int64 // file offset of the first vertex record
+
 	scratch [3][]float64
 	tok     []byte
 	nonNum  bool // the last ascii scalar was no number
@@ -653,20 +660,79 @@ func grow[T any](s []T, n int) []T {
 	return s[:n]
 }
 
+// block is one read of fixed-size vertex records.
+type block struct {
+	data []byte
+	off  int64 // file offset of data[0]
+	n    int   // bytes read when err is set
+	err  error // the read failed: data holds n bytes, then the file ended
+}
+
+// prefetch starts reading the rest of the vertex element in blocks of
+// size bytes on a second goroutine, so that the next block is copied from
+// the file while this one is decoded. Three buffers circulate between
+// r.free and r.full; Close stops the goroutine.
+func (r *plyReader) prefetch(size int) {
+	const nbuf = 3
+	r.full, r.free, r.quit = make(chan *block, nbuf), make(chan *block, nbuf), make(chan struct{})
+	for i := 0; i < nbuf; i++ {
+		r.free <- &block{data: make([]byte, size)}
+	}
+	r.vertAt = r.off - (r.done * int64(r.vert.fixed))
+	left := (r.vert.count - r.done) * int64(r.vert.fixed)
+	go func(br io.Reader, off, left int64) {
+		defer close(r.full)
+		for left > 0 {
+			var b *block
+			select {
+			case b = <-r.free:
+			case <-r.quit:
+				return
+			}
+			b.data = b.data[:min(int64(cap(b.data)), left)]
+			m, err := io.ReadFull(br, b.data)
+			b.off, b.n, b.err = off, m, err
+			off, left = off+int64(m), left-int64(m)
+			select {
+			case r.full <- b:
+			case <-r.quit:
+				return
+			}
+			if err != nil {
+				return
+			}
+		}
+	}(r.br, r.off, left)
+}
+
 // readFixed decodes n fixed-size binary vertex records, in blocks.
 func (r *plyReader) readFixed(c *Chunk, n int) error {
 	v := r.vert
 	rec := v.fixed
 	per := max(1, plyBlock/rec)
+	if r.full == nil {
+		r.prefetch(per * rec)
+	}
 	for got := 0; got < n; {
-		k := min(per, n-got)
-		r.buf = grow(r.buf, k*rec)
-		m, err := io.ReadFull(r.br, r.buf)
-		if err != nil {
-			return r.errf(r.off+int64(m), io.ErrUnexpectedEOF, "vertex record %d of %d", r.done+int64(got+m/rec)+1, v.count)
+		if r.cur != nil && r.pos == len(r.cur.data) {
+			r.free <- r.cur
+			r.cur = nil
 		}
-		r.off += int64(m)
-		src := r.buf
+		if r.cur == nil {
+			b, ok := <-r.full
+			if !ok {
+				return r.errf(r.off, errors.New("reader closed"), "vertex record %d of %d", r.done+int64(got)+1, v.count)
+			}
+			if b.err != nil {
+				miss := b.off + int64(b.n)
+				return r.errf(miss, io.ErrUnexpectedEOF, "vertex record %d of %d", (miss-r.vertAt)/int64(rec)+1, v.count)
+			}
+			r.cur, r.pos = b, 0
+		}
+		k := min(n-got, (len(r.cur.data)-r.pos)/rec)
+		src := r.cur.data[r.pos : r.pos+k*rec]
+		r.pos += k * rec
+		r.off = r.cur.off + int64(r.pos)
 		p := c.P[got : got+k]
 		fused := false // the attributes were decoded with x, y, z
 		if r.fast {
@@ -820,6 +886,10 @@ func (r *plyReader) Info() Info {
 
 // Close implements Reader.
 func (r *plyReader) Close() error {
+	if r.quit != nil {
+		close(r.quit)
+		r.quit = nil
+	}
 	if r.close == nil {
 		return nil
 	}
