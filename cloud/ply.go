@@ -112,7 +112,7 @@ type plyReader struct {
 	// recheck is set when the fast path met a point that check must see.
 	recheck bool
 
-	done    int64 // vertex records returned
+	done int64 // vertex records returned
 
 	// Prefetching of fixed-size binary records (see prefetch).
 	full, free chan *block
