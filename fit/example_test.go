@@ -68,3 +68,37 @@ func ExampleFitSaddle() {
 	// Output:
 	// 1/K1 = 144.00, 1/K2 = -81.00, hyperbolic paraboloid, 900 inliers
 }
+
+// Split the difference between a design and the fitted as-built saddle
+// into placement and shape.
+func ExampleCompareToDesign() {
+	design := deviation.Saddle{
+		K1: 1.0 / 144, K2: -1.0 / 81,
+		Origin: r3.Vec{X: 500000, Y: 5000000, Z: 100},
+		Axes:   [3]r3.Vec{{X: 1}, {Y: 1}, {Z: 1}},
+	}
+	built := design
+	// The whole shell sits 15 mm high: 15 mm·cos(slope) = 14.5 mm along the
+	// normal at the centroid, where the slope is 15.5°.
+	built.Origin.Z += 0.015
+	var pts []r3.Vec
+	var centroid r3.Vec
+	for i := 0; i < 30; i++ {
+		for j := 0; j < 30; j++ {
+			x, y := 3+float64(i), -9+float64(j)
+			z := built.K1*x*x + built.K2*y*y + 0.001*float64((i+j)%2*2-1)
+			p := built.ToSite(r3.Vec{X: x, Y: y, Z: z})
+			pts = append(pts, p)
+			centroid = r3.Add(centroid, r3.Scale(1.0/900, p))
+		}
+	}
+	res, err := fit.FitSaddle(pts, &fit.SaddleSettings{Start: &design})
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	sp := fit.CompareToDesign(&design, res, centroid)
+	fmt.Printf("offset along the design normal %.1f mm, K1 change significant: %v\n", 1e3*sp.Offset, sp.K1.Significant)
+	// Output:
+	// offset along the design normal 14.5 mm, K1 change significant: false
+}

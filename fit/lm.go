@@ -151,8 +151,11 @@ type Result struct {
 // R is handled by never taking an undamped step (λ > 0 always), which keeps
 // the damped system nonsingular.
 //
-// It returns an error only for misuse-free data failures (non-finite
-// residuals at x0); convergence is reported in Result.Status.
+// It returns an error only when the residuals at x0 are not finite;
+// convergence is reported in Result.Status. Misuse (no Func, no Jacobian,
+// M < n, a ScaleDiag of the wrong length) panics. Residuals that become
+// non-finite at a trial point count as a failed step (the trust region
+// shrinks), so a Func may return +Inf outside its domain.
 //
 // References:
 //
