@@ -53,7 +53,8 @@ type Patch struct {
 	Warnings []string
 	Line     int // line of the patch in the design file
 	// box is the padded bounding box of the patch region (see Classify);
-	// hasBox is false where no safe box is known (meshes).
+	// hasBox is false where no safe box is known (a mesh surface without
+	// a Bounds method).
 	boxLo, boxHi r3.Vec
 	hasBox       bool
 }
@@ -705,6 +706,15 @@ func (p *parser) meshPatch(m map[string]*yaml.Node, key string, pt Patch, d *Des
 		return pt, p.errNode(mn, key+".mesh", "mesh loader returned no surface")
 	}
 	pt.Kind, pt.Surface = "mesh", lm.Surface
+	// A mesh's closest points lie on its triangles, hence in its vertex
+	// bounding box: a safe box for Classify (padded by 1 µm for rounding).
+	if b, ok := lm.Surface.(interface{ Bounds() (min, max r3.Vec) }); ok {
+		lo, hi := b.Bounds()
+		pad := r3.Vec{X: 1e-6, Y: 1e-6, Z: 1e-6}
+		if v := lo.X + lo.Y + lo.Z + hi.X + hi.Y + hi.Z; !math.IsNaN(v) && !math.IsInf(v, 0) && lo.X <= hi.X && lo.Y <= hi.Y && lo.Z <= hi.Z {
+			pt.boxLo, pt.boxHi, pt.hasBox = r3.Sub(lo, pad), r3.Add(hi, pad), true
+		}
+	}
 	pt.Notes = append(pt.Notes, lm.Notes...)
 	pt.Warnings = append(pt.Warnings, lm.Warnings...)
 	return pt, nil
@@ -723,6 +733,9 @@ func (p *parser) meshPatch(m map[string]*yaml.Node, key string, pt Patch, d *Des
 // from x are tried only when no nearer patch gives a used point: any foot
 // on them is that far away, so they cannot beat a used point, and the
 // second pass keeps the result identical to projecting on every patch.
+// Analytic patches derive their box from their geometry and margin; a
+// mesh surface gets one when it has a method Bounds() (min, max r3.Vec)
+// returning a box that holds every foot it reports (its vertex box).
 // Classify does not allocate and is safe for concurrent use.
 func (d *Design) Classify(x r3.Vec) (patch int, pr Projection, st Status) {
 	far := d.Tolerance.FarM

@@ -163,6 +163,51 @@ func TestParseDesignMeshLoader(t *testing.T) {
 	}
 }
 
+// boundedPatch is a SaddlePatch with a Bounds method, standing in for a
+// mesh surface (whose closest points lie in its vertex box).
+type boundedPatch struct{ *SaddlePatch }
+
+func (b boundedPatch) Bounds() (lo, hi r3.Vec) {
+	lo, hi, _ = b.SaddlePatch.bounds()
+	return lo, hi
+}
+
+func TestMeshPatchBounds(t *testing.T) {
+	s := Saddle{K1: 0.02, K2: -0.02, Origin: r3.Vec{X: 1040, Y: 2000, Z: 10}, Axes: [3]r3.Vec{{X: 1}, {Y: 1}, {Z: 1}}}
+	c := [4]r3.Vec{{X: 1035, Y: 1995}, {X: 1045, Y: 1995}, {X: 1045, Y: 2005}, {X: 1035, Y: 2005}}
+	sp, err := NewSaddlePatch(s, c, 0.05)
+	if err != nil {
+		t.Fatal(err)
+	}
+	RegisterMeshLoader("stl", func(MeshSpec) (*LoadedMesh, error) { return &LoadedMesh{Surface: boundedPatch{sp}}, nil })
+	defer func() { meshMu.Lock(); delete(meshLoaders, "stl"); meshMu.Unlock() }()
+	data, err := os.ReadFile(filepath.Join("testdata", "design_canopy.yaml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	src := strings.Replace(string(data), "tolerance:", "  - id: M\n    mesh: m.stl\ntolerance:", 1)
+	d, err := ParseDesign("t.yaml", []byte(src), ".")
+	if err != nil {
+		t.Fatal(err)
+	}
+	m := d.Patches[len(d.Patches)-1]
+	if m.Kind != "mesh" || !m.hasBox {
+		t.Fatalf("mesh patch %+v has no box", m)
+	}
+	if _, hi, _ := d.Extent(); hi.X < 1045 {
+		t.Errorf("extent ends at %v, want the mesh included", hi)
+	}
+	rng := rand.New(rand.NewPCG(23, 24))
+	for i := 0; i < 2000; i++ {
+		x := r3.Vec{X: 995 + 55*rng.Float64(), Y: 1975 + 40*rng.Float64(), Z: 8 + 5*rng.Float64()}
+		k1, p1, s1 := d.Classify(x)
+		k2, p2, s2 := classifyAll(d, x)
+		if k1 != k2 || s1 != s2 || p1 != p2 {
+			t.Fatalf("x=%v: Classify %d %v, all patches %d %v", x, k1, s1, k2, s2)
+		}
+	}
+}
+
 // classifyAll is Classify without the bounding-box shortcut: the
 // reference the shortcut must reproduce exactly.
 func classifyAll(d *Design, x r3.Vec) (int, Projection, Status) {
