@@ -7,6 +7,7 @@ import (
 	"gonum.org/v1/gonum/spatial/r3"
 
 	"saddlecheck/cloud"
+	"saddlecheck/uncert"
 )
 
 // MapPointLimit is the number of used points up to which the plan-view map
@@ -42,7 +43,43 @@ type Collector struct {
 	rej    []int64
 	// FirstRejected holds up to 5 examples of rejected records.
 	FirstRejected []RejectedRecord
+
+	// With a Decision (SetDecision) and results carrying U: decision zones
+	// per patch and overall, the uncertainty budget, the uncertainty that
+	// would decide the inconclusive points, and inconclusive counts per
+	// grid cell.
+	Decision  *Decision
+	Zones     []uncert.ZoneCounts
+	ZonesAll  uncert.ZoneCounts
+	Budget    uncert.BudgetStats
+	Needed    *uncert.NeededHist
+	CellInc   []int64
+	UStats    *Acc // the combined u of used points, as an accumulator
+	sawU      bool
 }
+
+// NeededMaxM is the range of the needed-uncertainty histogram: an
+// inconclusive point is decided by any u below |limit − |d||/k, which is
+// below its own u, so 50 mm covers every practical survey.
+const NeededMaxM = 0.05
+
+// SetDecision makes the Collector decide points with their uncertainty.
+func (c *Collector) SetDecision(d *Decision) {
+	c.Decision = d
+	c.Zones = make([]uncert.ZoneCounts, len(c.Patches))
+	c.Needed = uncert.NewNeededHist(1e-5, NeededMaxM)
+	if c.Grid != nil {
+		c.CellInc = make([]int64, c.Grid.NX*c.Grid.NY)
+	}
+	t := c.d.Tolerance.WithDefaults()
+	t.LimitM, t.MaxAbsM = 1, 0 // u accumulator: bands are irrelevant
+	t.BandsM = nil
+	t.FarM = NeededMaxM * 10
+	c.UStats = NewAcc(t)
+}
+
+// HasU reports whether any result carried uncertainties.
+func (c *Collector) HasU() bool { return c.sawU }
 
 // MapPoint is a used point for the map.
 type MapPoint struct {
@@ -91,6 +128,9 @@ func NewCollector(d *Design, nSources int) *Collector {
 func (c *Collector) Consume(r *Result) error {
 	ch := r.Chunk
 	src := ch.Source
+	if r.Budget != nil && c.Decision != nil {
+		c.Budget.Merge(r.Budget)
+	}
 	for i, n := 0, ch.Len(); i < n; i++ {
 		st := r.Status[i]
 		c.status[st]++
@@ -121,6 +161,20 @@ func (c *Collector) Consume(r *Result) error {
 		u := math.NaN()
 		if r.U != nil {
 			u = r.U[i]
+			if c.Decision != nil && !math.IsNaN(u) {
+				c.sawU = true
+				c.UStats.Add(u)
+				z := c.Zones[k].AddPoint(&c.Decision.Criterion, d, u)
+				c.ZonesAll.Add(z)
+				if z == uncert.Inconclusive {
+					c.Needed.Add(d, c.Decision.Criterion.Limit, c.Decision.Rule.K)
+					if c.CellInc != nil {
+						if ci, ok := c.Grid.Index(p); ok {
+							c.CellInc[ci]++
+						}
+					}
+				}
+			}
 		}
 		if c.Points != nil {
 			if len(c.Points) < MapPointLimit {
@@ -195,10 +249,24 @@ func (h worstHeap) sorted() []WorstPoint {
 	return out
 }
 
-// Verdicts returns each patch's verdict and the overall verdict.
+// Verdicts returns each patch's verdict and the overall verdict. With
+// uncertainties (SetDecision and results carrying U) a patch's verdict
+// follows the decision rule on its zone counts (uncert.ZoneCounts.Verdict);
+// otherwise it is the simple-acceptance rule of the tolerance.
 func (c *Collector) Verdicts() ([]Verdict, Verdict) {
 	vs := make([]Verdict, len(c.Patches))
 	for i, a := range c.Patches {
+		if c.sawU && c.Zones != nil {
+			switch c.Zones[i].Verdict(&c.Decision.Criterion) {
+			case uncert.Conforming:
+				vs[i] = Conforming
+			case uncert.Nonconforming:
+				vs[i] = Nonconforming
+			default:
+				vs[i] = Inconclusive
+			}
+			continue
+		}
 		vs[i] = a.Summary(c.d.Tolerance).Verdict
 	}
 	return vs, Overall(vs)
@@ -241,4 +309,15 @@ func HistogramInto(a *Acc, fromM, binM float64, counts []int64, under, over *int
 			counts[k] += c
 		}
 	}
+}
+
+// Index returns the cell index (j·NX + i) of the plan point p, and false
+// outside the grid.
+func (g *Grid) Index(p r3.Vec) (int, bool) {
+	fi := math.Floor((p.X - g.X0) / g.CellM)
+	fj := math.Floor((p.Y - g.Y0) / g.CellM)
+	if !(fi >= 0 && fi < float64(g.NX) && fj >= 0 && fj < float64(g.NY)) {
+		return 0, false
+	}
+	return int(fj)*g.NX + int(fi), true
 }

@@ -11,6 +11,7 @@ import (
 	"gonum.org/v1/gonum/spatial/r3"
 
 	"saddlecheck/cloud"
+	"saddlecheck/uncert"
 )
 
 // Result is the outcome of measuring one chunk of input records. All slices
@@ -32,6 +33,9 @@ type Result struct {
 	// U is the standard uncertainty of Dev in metres, filled by an
 	// Enricher; nil when no uncertainty model is given.
 	U []float64
+	// Budget holds the uncertainty budget of a sample of the chunk's points
+	// (see BudgetEvery); nil without an uncertainty model.
+	Budget *uncert.BudgetStats
 	// Resid is the residual in metres from the as-built (fitted) surface of
 	// the point's patch; nil when no fit was made, NaN where the patch has
 	// no fit.

@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"math"
 
+	"gonum.org/v1/gonum/spatial/r3"
+
 	"saddlecheck/deviation"
 )
 
@@ -66,7 +68,7 @@ func Build(c *deviation.Collector, d *deviation.Design) *Summary {
 			s.Design.Notes = append(s.Design.Notes, "patch "+p.ID+": "+n)
 		}
 	}
-	s.VerdictText = verdictText(s)
+	s.VerdictText = VerdictText(s)
 	for _, w := range c.Worst() {
 		wp := WorstPoint{ID: w.ID, Source: w.Source, Line: w.Line, DeviationMM: w.DevM * 1000, X: w.P.X, Y: w.P.Y, Z: w.P.Z}
 		if w.Patch >= 0 && w.Patch < len(d.Patches) {
@@ -100,7 +102,8 @@ func mmList(v []float64) []float64 {
 	return out
 }
 
-func verdictText(s *Summary) string {
+// VerdictText states the overall verdict in a sentence.
+func VerdictText(s *Summary) string {
 	var nc, inc []string
 	for _, p := range s.Patches {
 		switch p.Verdict {
@@ -198,4 +201,8 @@ func buildMap(c *deviation.Collector, d *deviation.Design) Map {
 		}
 	}
 	return m
+}
+
+func cellCentre(c *Cell, size float64) r3.Vec {
+	return r3.Vec{X: c.X + size/2, Y: c.Y + size/2}
 }

@@ -664,9 +664,11 @@ func archiveHistory(args []string, stdout, stderr io.Writer) error {
 		h.Datum = fmt.Sprintf("%d of %d epochs were registered by best fit to the shell: for those, a rigid movement of the whole shell is absorbed by the registration and the mean offset shows no placement change; the shape coefficients are unaffected.", bestfit, len(es))
 	}
 	if *cores && len(es) >= 3 {
-		if h.CoreTrends, err = archiveCoreTrends(a, st, es, *set, archiveSplit(*columns)); err != nil {
+		cores, rates, spacing, err := archiveCoreTrends(a, st, es, *set, archiveSplit(*columns))
+		if err != nil {
 			return err
 		}
+		h.SetCoreTrends(cores, rates, spacing)
 	}
 	if err := os.MkdirAll(*out, 0o755); err != nil {
 		return err
@@ -678,26 +680,26 @@ func archiveHistory(args []string, stdout, stderr io.Writer) error {
 	return nil
 }
 
-// coreTrends reads every epoch's points and fits a rate at each core point
-// of the grid over the first and last epochs.
-func archiveCoreTrends(a *archive.Archive, st archive.Structure, es []archive.Epoch, set change.Settings, cols []string) (*history.CoreTrendSummary, error) {
+// archiveCoreTrends reads every epoch's points and fits a rate at each
+// core point of the grid over the first and last epochs.
+func archiveCoreTrends(a *archive.Archive, st archive.Structure, es []archive.Epoch, set change.Settings, cols []string) ([]change.Core, []change.CoreTrend, float64, error) {
 	tmp, err := os.MkdirTemp("", "saddlecheck-history-*")
 	if err != nil {
-		return nil, err
+		return nil, nil, 0, err
 	}
 	defer os.RemoveAll(tmp)
 	first, _, err := loadEpochPoints(a, es[0], tmp, cols)
 	if err != nil {
-		return nil, err
+		return nil, nil, 0, err
 	}
 	last, _, err := loadEpochPoints(a, es[len(es)-1], tmp, cols)
 	if err != nil {
-		return nil, err
+		return nil, nil, 0, err
 	}
 	s := resolveM3C2(set, es[0], es[len(es)-1])
 	cores, _, _, _, err := archiveCoreGrid(a, st, tmp, first, last, &s)
 	if err != nil {
-		return nil, err
+		return nil, nil, 0, err
 	}
 	first, last = nil, nil
 	years := make([]float64, len(es))
@@ -705,33 +707,16 @@ func archiveCoreTrends(a *archive.Archive, st archive.Structure, es []archive.Ep
 	pos := make([][]change.Position, len(es))
 	for k, e := range es {
 		if years[k], err = history.DecimalYear(e.Date); err != nil {
-			return nil, err
+			return nil, nil, 0, err
 		}
 		reg[k] = e.RegistrationMM * 1e-3
 		pts, _, err := loadEpochPoints(a, e, tmp, cols)
 		if err != nil {
-			return nil, err
+			return nil, nil, 0, err
 		}
 		pos[k] = change.Positions(nil, cores, pts, &s)
 	}
-	trends := change.CoreTrends(nil, years, pos, reg, &s, 0.05)
-	sum := &history.CoreTrendSummary{Cores: len(cores)}
-	var total float64
-	for _, t := range trends {
-		if !t.OK {
-			continue
-		}
-		sum.Fitted++
-		total += t.Rate * 1e3
-		sum.MaxAbsMMPerYear = math.Max(sum.MaxAbsMMPerYear, math.Abs(t.Rate*1e3))
-		if t.Significant {
-			sum.Significant++
-		}
-	}
-	if sum.Fitted > 0 {
-		sum.MeanRateMMPerYear = total / float64(sum.Fitted)
-	}
-	return sum, nil
+	return cores, change.CoreTrends(nil, years, pos, reg, &s, 0.05), s.CoreSpacing, nil
 }
 
 const archiveVerifyHelp = `Usage: saddlecheck archive verify --archive DIR [--deep]

@@ -12,10 +12,12 @@ import (
 	"time"
 
 	"gonum.org/v1/gonum/spatial/r3"
+	"gopkg.in/yaml.v3"
 
 	"saddlecheck/cloud"
 	"saddlecheck/deviation"
 	"saddlecheck/fit"
+	"saddlecheck/uncert"
 	"saddlecheck/report"
 )
 
@@ -44,6 +46,14 @@ Example:
 
 A headerless shot file needs its column order, e.g. --columns id,n,e,z,code.
 
+With an uncertainty model (--uncertainty FILE, --u-mm X, or the design
+file's uncertainty section) every deviation carries its standard
+uncertainty u along the normal, and points and patches are decided by the
+guarded-acceptance rule: conforming where |d| + k·u <= limit,
+nonconforming where |d| − k·u > limit, otherwise inconclusive:
+  saddlecheck check --design canopy.yaml --points shots.csv \
+      --uncertainty ts-2s-2mm.yaml --out check-with-u
+
 Exit codes: 0 conforming, 1 nonconforming or inconclusive, 2 usage or input
 error.
 `
@@ -59,6 +69,10 @@ type checkConfig struct {
 	geojson string
 	noFit   bool
 	seed    uint64
+	uncertF multiFlag
+	uMM     float64
+	rule    string
+	k       float64
 	now     func() time.Time
 }
 
@@ -75,6 +89,10 @@ func runCheck(args []string, stdout, stderr io.Writer) error {
 	fs.StringVar(&c.geojson, "geojson", "", "also write the used points (or map cells) and patch outlines as GeoJSON")
 	fs.BoolVar(&c.noFit, "no-fit", false, "skip the as-built fit (placement/shape/local split)")
 	fs.Uint64Var(&c.seed, "seed", 1, "random seed of the robust fit (same seed, same report)")
+	fs.Var(&c.uncertF, "uncertainty", "uncertainty model file (YAML, the design file's uncertainty schema); one for all inputs or one per --points, in order")
+	fs.Float64Var(&c.uMM, "u-mm", 0, "plain standard uncertainty of every point along the normal, mm (instead of a model file)")
+	fs.StringVar(&c.rule, "rule", "", "decision rule with uncertainty: guarded (ISO 14253-1, default) or simple (ignore u)")
+	fs.Float64Var(&c.k, "k", 0, "coverage factor of the guard band (default 2)")
 	if help, err := parseFlags(fs, args); help || err != nil {
 		return err
 	}
@@ -151,7 +169,18 @@ func check(c *checkConfig, stdout, stderr io.Writer) error {
 	for i, p := range d.Patches {
 		patchIDs[i] = p.ID
 	}
-	csvw, err := report.NewPointCSV(filepath.Join(c.out, "deviations.csv"), 0, []string(c.points), patchIDs, d.Tolerance.BandsM, report.PointCSVOptions{Fit: !c.noFit})
+	unc, rule, uNotes, err := uncertaintyFor(c, d, stderr)
+	if err != nil {
+		return err
+	}
+	var decision *deviation.Decision
+	csvOpt := report.PointCSVOptions{Fit: !c.noFit}
+	if unc != nil {
+		decision = deviation.NewDecision(d.Tolerance, rule)
+		csvOpt.Uncertainty = true
+		csvOpt.Zone = func(dv, u float64) string { return decision.Zone(dv, u).String() }
+	}
+	csvw, err := report.NewPointCSV(filepath.Join(c.out, "deviations.csv"), 0, []string(c.points), patchIDs, d.Tolerance.BandsM, csvOpt)
 	if err != nil {
 		return err
 	}
@@ -159,6 +188,10 @@ func check(c *checkConfig, stdout, stderr io.Writer) error {
 	col := deviation.NewCollector(d, len(c.points))
 	sinks := []deviation.Sink{col, csvw}
 	var enrich []deviation.Enricher
+	if unc != nil {
+		enrich = append(enrich, unc)
+		col.SetDecision(decision)
+	}
 	if asBuilt != nil {
 		enrich = append(enrich, asBuilt)
 	}
@@ -176,6 +209,10 @@ func check(c *checkConfig, stdout, stderr io.Writer) error {
 	s := report.Build(col, d)
 	if asBuilt != nil {
 		report.AddAsBuilt(s, col, d, abIn)
+	}
+	if unc != nil {
+		report.AddUncertainty(s, col, rule, uNotes)
+		s.VerdictText = report.VerdictText(s)
 	}
 	for i := range s.Worst {
 		s.Worst[i].File = c.points[s.Worst[i].Source]
@@ -323,4 +360,88 @@ func fitPatch(d *deviation.Design, k int, s *deviation.Sampler, seed uint64) rep
 	in.Result = r
 	in.Split = fit.CompareToDesign(ds, r, cen)
 	return in
+}
+
+// uncertaintyFor builds the per-input uncertainty enricher from the flags
+// (and, where the design file has one, its uncertainty section). It returns
+// nil when no model is given.
+func uncertaintyFor(c *checkConfig, d *deviation.Design, stderr io.Writer) (*deviation.Uncertainty, uncert.Rule, []string, error) {
+	var models []*uncert.Model
+	switch {
+	case c.uMM > 0 && len(c.uncertF) > 0:
+		return nil, uncert.Rule{}, nil, usageErr(stderr, "check", "give --u-mm or --uncertainty, not both")
+	case c.uMM < 0:
+		return nil, uncert.Rule{}, nil, usageErr(stderr, "check", "--u-mm must be positive")
+	case c.uMM > 0:
+		models = []*uncert.Model{{Instrument: uncert.Instrument{Kind: uncert.KindPlain, SigmaMM: c.uMM}}}
+	case len(c.uncertF) > 0:
+		if len(c.uncertF) != 1 && len(c.uncertF) != len(c.points) {
+			return nil, uncert.Rule{}, nil, usageErr(stderr, "check", "give one --uncertainty for all inputs or one per --points (%d given for %d inputs)", len(c.uncertF), len(c.points))
+		}
+		for _, f := range c.uncertF {
+			m, err := loadModel(f)
+			if err != nil {
+				return nil, uncert.Rule{}, nil, err
+			}
+			models = append(models, m)
+		}
+	default:
+		if c.rule != "" || c.k != 0 {
+			return nil, uncert.Rule{}, nil, usageErr(stderr, "check", "--rule and --k need an uncertainty model (--uncertainty FILE or --u-mm X)")
+		}
+		return nil, uncert.Rule{}, nil, nil
+	}
+	ruleName, k := models[0].Decision.Rule, models[0].Decision.K
+	if c.rule != "" {
+		ruleName = c.rule
+	}
+	if c.k != 0 {
+		k = c.k
+	}
+	rule, err := uncert.NewRule(ruleName, k)
+	if err != nil {
+		return nil, uncert.Rule{}, nil, usageErr(stderr, "check", "%v", err)
+	}
+	e := &deviation.Uncertainty{}
+	var notes []string
+	for i := range c.points {
+		m := models[0]
+		if len(models) > 1 {
+			m = models[i]
+		}
+		setups, err := m.Setups()
+		if err != nil {
+			return nil, uncert.Rule{}, nil, err
+		}
+		if len(setups) != 1 {
+			return nil, uncert.Rule{}, nil, fmt.Errorf("%s: the uncertainty model has %d stations; give one points file per station, each with its own --uncertainty file", c.points[i], len(setups))
+		}
+		s := setups[0]
+		e.Setups = append(e.Setups, &s)
+		for _, w := range m.Warnings() {
+			notes = append(notes, c.points[i]+": uncertainty model: "+w)
+		}
+	}
+	return e, rule, notes, nil
+}
+
+// loadModel reads an uncertainty model file.
+func loadModel(path string) (*uncert.Model, error) {
+	b, err := os.ReadFile(path)
+	if err != nil {
+		return nil, err
+	}
+	var n yaml.Node
+	if err := yaml.Unmarshal(b, &n); err != nil {
+		return nil, fmt.Errorf("%s: %w", path, err)
+	}
+	m, err := uncert.DecodeModel(&n)
+	if err != nil {
+		var le *uncert.LineError
+		if errors.As(err, &le) {
+			return nil, fmt.Errorf("%s:%d: %s", path, le.Line, le.Msg)
+		}
+		return nil, fmt.Errorf("%s: %w", path, err)
+	}
+	return &m, nil
 }

@@ -277,3 +277,44 @@ func TestHelp(t *testing.T) {
 		t.Errorf("unknown command exit %d, want 2", code)
 	}
 }
+
+// TestCheckWithUncertainty: the guarded-acceptance rule of ISO 14253-1
+// (FIELD.md §2): with u = 3 mm and k = 2 a deviation of 9.8 mm against a
+// 10 mm limit is inconclusive, 2 mm is proven conforming (2 + 6 <= 10) and
+// 17 mm is proven nonconforming (17 − 6 > 10); simple acceptance (JCGM
+// 106:2012) calls 9.8 mm conforming.
+func TestCheckWithUncertainty(t *testing.T) {
+	offsets := []float64{0.0098, 0.002, 0.017}
+	tests := []struct {
+		rule  string
+		zones []string
+		code  int
+	}{
+		{"guarded", []string{"INCONCLUSIVE", "CONFORMS", "DOES NOT CONFORM"}, exitVerdict},
+		{"simple", []string{"CONFORMS", "CONFORMS", "DOES NOT CONFORM"}, exitVerdict},
+	}
+	for _, tc := range tests {
+		t.Run(tc.rule, func(t *testing.T) {
+			dir := t.TempDir()
+			design, points := hyparFixture(t, dir, offsets)
+			out := filepath.Join(dir, "out")
+			code, _, stderr := runArgs(t, "check", "--design", design, "--points", points, "--out", out, "--u-mm", "3", "--rule", tc.rule, "--no-fit")
+			if code != tc.code {
+				t.Fatalf("exit %d, want %d: %s", code, tc.code, stderr)
+			}
+			rows := readCSV(t, filepath.Join(out, "deviations.csv"))
+			col := map[string]int{}
+			for i, h := range rows[0] {
+				col[h] = i
+			}
+			for i, r := range rows[1:] {
+				if got := r[col["zone"]]; got != tc.zones[i] {
+					t.Errorf("point %d (%.1f mm): zone %q, want %q", i, offsets[i]*1000, got, tc.zones[i])
+				}
+				if got := r[col["u_mm"]]; got != "3.00" {
+					t.Errorf("point %d: u_mm %q, want 3.00", i, got)
+				}
+			}
+		})
+	}
+}

@@ -95,7 +95,18 @@ func sampleHistory() *History {
 	}
 	add("k1 (patch north)", "1/m", []float64{0.0712, 0.0713, 0.0712, 0.0714, 0.0713}, []float64{2e-4, 2e-4, 1e-4, 1e-4, 1e-4})
 	add("mean offset", "mm", []float64{0.4, -0.3, -1.1, -1.6, -2.5}, []float64{0.5, 0.5, 0.4, 0.4, 0.3})
-	h.CoreTrends = &CoreTrendSummary{Cores: 120, Fitted: 110, Significant: 12, MeanRateMMPerYear: -0.21, MaxAbsMMPerYear: 0.9}
+	var cores []change.Core
+	var rates []change.CoreTrend
+	for j := 0; j < 4; j++ {
+		for i := 0; i < 6; i++ {
+			cores = append(cores, change.Core{P: r3.Vec{X: 1000 + float64(i), Y: 2000 + float64(j), Z: 30}, N: r3.Vec{Z: 1}})
+			r := change.CoreTrend{Epochs: 5, OK: i > 0}
+			r.Rate = -0.0002 * float64(i)
+			r.Significant = i >= 3
+			rates = append(rates, r)
+		}
+	}
+	h.SetCoreTrends(cores, rates, 1)
 	return h
 }
 
@@ -183,6 +194,9 @@ func TestComparisonReport(t *testing.T) {
 
 func TestHistoryReport(t *testing.T) {
 	h := sampleHistory()
+	if ct := h.CoreTrends; ct.Fitted != 20 || ct.Significant != 12 || math.Abs(ct.MaxAbsMMPerYear-1) > 1e-12 {
+		t.Errorf("core-trend summary: %+v, want 20 fitted, 12 significant, max 1 mm/yr", ct)
+	}
 	if h.Series[1].Trend == nil || !h.Series[1].Trend.Significant {
 		t.Fatalf("mean-offset trend: %+v, want a significant rate", h.Series[1].Trend)
 	}

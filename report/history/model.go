@@ -1,6 +1,7 @@
 package history
 
 import (
+	"math"
 	"time"
 
 	"saddlecheck/change"
@@ -94,11 +95,17 @@ type History struct {
 	DesignSHA string
 	Epochs    []Epoch
 	Series    []Series
-	// CoreTrends summarises per-core rates when computed (nil otherwise).
+	// CoreTrends summarises per-core rates when computed (nil otherwise;
+	// SetCoreTrends fills it).
 	CoreTrends *CoreTrendSummary
-	Datum      string
-	Notes      []string
-	Warning    []string
+	// Cores and Rates are the core points and their fitted rates (parallel
+	// slices, nil when not computed); Spacing is the core spacing in m.
+	Cores   []change.Core
+	Rates   []change.CoreTrend
+	Spacing float64
+	Datum   string
+	Notes   []string
+	Warning []string
 }
 
 // CoreTrendSummary counts per-core rates of the position along the normal.
@@ -109,4 +116,48 @@ type CoreTrendSummary struct {
 	// MeanRateMMPerYear is over fitted cores.
 	MeanRateMMPerYear float64 `json:"mean_rate_mm_per_year"`
 	MaxAbsMMPerYear   float64 `json:"max_abs_rate_mm_per_year"`
+}
+
+// SetCoreTrends stores per-core rates and their summary in h.
+func (h *History) SetCoreTrends(cores []change.Core, rates []change.CoreTrend, spacing float64) {
+	if len(cores) != len(rates) {
+		panic("history: SetCoreTrends: cores and rates differ in length")
+	}
+	h.Cores, h.Rates, h.Spacing = cores, rates, spacing
+	sum := &CoreTrendSummary{Cores: len(cores)}
+	var total float64
+	for _, t := range rates {
+		if !t.OK {
+			continue
+		}
+		sum.Fitted++
+		total += t.Rate * 1e3
+		sum.MaxAbsMMPerYear = math.Max(sum.MaxAbsMMPerYear, math.Abs(t.Rate*1e3))
+		if t.Significant {
+			sum.Significant++
+		}
+	}
+	if sum.Fitted > 0 {
+		sum.MeanRateMMPerYear = total / float64(sum.Fitted)
+	}
+	h.CoreTrends = sum
+}
+
+// rateCores returns the cores with Distance set to the rate per year and
+// Status to Significant, NotDetected or TooFewPoints (no rate), so that the
+// change map can draw rates.
+func rateCores(cores []change.Core, rates []change.CoreTrend) []change.Core {
+	out := make([]change.Core, len(cores))
+	for i, c := range cores {
+		t := rates[i]
+		c.Distance, c.Status = t.Rate, change.NotDetected
+		switch {
+		case !t.OK:
+			c.Distance, c.Status = math.NaN(), change.TooFewPoints
+		case t.Significant:
+			c.Status = change.Significant
+		}
+		out[i] = c
+	}
+	return out
 }

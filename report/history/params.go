@@ -85,6 +85,8 @@ func paramIndex(e change.Estimate) map[string]int {
 	return m
 }
 
+const bestfitDatum = "bestfit"
+
 // SeriesBuilder collects the key figures of a structure epoch by epoch.
 type SeriesBuilder struct {
 	series map[string]*Series
@@ -95,6 +97,8 @@ type SeriesBuilder struct {
 // deviation, n their count, reg the epoch's registration standard error:
 // common to all points, so not divided by n); and every shape parameter of
 // every patch from params, with u from its covariance. Either may be nil.
+// The mean offset of an epoch registered by best fit to the shell (Datum
+// "bestfit") is left out: the registration absorbed it.
 func (b *SeriesBuilder) Add(e Epoch, year float64, sum *report.Summary, params *StoredParams) {
 	if b.series == nil {
 		b.series = map[string]*Series{}
@@ -107,7 +111,7 @@ func (b *SeriesBuilder) Add(e Epoch, year float64, sum *report.Summary, params *
 		}
 		s.Points = append(s.Points, Point{EpochID: e.ID, Date: e.Date, Year: year, Value: v, U: u})
 	}
-	if sum != nil && sum.Overall.N > 0 {
+	if sum != nil && sum.Overall.N > 0 && e.Datum != bestfitDatum {
 		u := change.Position{Sigma: sum.Overall.StdMM, N: int(sum.Overall.N)}.U(e.RegistrationMM)
 		add("mean offset from the design", "mm", sum.Overall.MeanMM, u)
 	}

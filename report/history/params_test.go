@@ -67,6 +67,9 @@ func TestSeriesBuilder(t *testing.T) {
 		b.Add(Epoch{ID: int64(i + 1), Date: d, RegistrationMM: 0.3}, y, summaryWith(0, 0, 0, 0, mean, 2, 400), &p)
 	}
 	b.Add(Epoch{ID: 9, Date: "2025-01-01"}, 2025, nil, nil) // no result: nothing added
+	// A best-fit epoch adds its shape parameters but no mean offset.
+	p := ParamsFromSummary(summaryWith(0.07, 1e-4, -0.065, 1e-4, 0, 2, 400))
+	b.Add(Epoch{ID: 10, Date: "2025-06-01", Datum: "bestfit"}, 2025.4, summaryWith(0, 0, 0, 0, 0, 2, 400), &p)
 	series := b.Series(0.05)
 	if len(series) != 3 {
 		t.Fatalf("series: got %d, want k1, k2 and mean offset", len(series))
@@ -80,6 +83,9 @@ func TestSeriesBuilder(t *testing.T) {
 	// u = sqrt(2²/400 + 0.3²) = sqrt(0.01 + 0.09) = 0.3162 mm.
 	if math.Abs(mean.Points[0].U-math.Sqrt(0.1)) > 1e-12 {
 		t.Errorf("u of the mean offset: got %g, want %g", mean.Points[0].U, math.Sqrt(0.1))
+	}
+	if len(mean.Points) != 4 {
+		t.Errorf("mean offset: %d points, want 4 (the best-fit epoch left out)", len(mean.Points))
 	}
 	if mean.Trend == nil || math.Abs(mean.Trend.Rate+0.25) > 1e-3 || !mean.Trend.Significant {
 		t.Errorf("mean-offset trend: %+v, want −0.25 mm/yr significant", mean.Trend)

@@ -86,9 +86,9 @@ func changeMapSVG(cores []change.Core, spacing, span float64) template.HTML {
 	return template.HTML(b.String())
 }
 
-// legendSVG draws the 11 PuOr classes over ±span mm plus the grey and
-// hatched keys.
-func legendSVG(span float64) template.HTML {
+// legendSVG draws the 11 PuOr classes over ±span (in unit) plus the grey
+// and hatched keys with their labels.
+func legendSVG(span float64, unit, grey, hatched string) template.HTML {
 	var b strings.Builder
 	b.WriteString(`<svg class="legend" width="520" height="64" viewBox="0 0 520 64" role="img" aria-label="colour key">`)
 	fmt.Fprintf(&b, `<defs><pattern id="fewkey" width="5" height="5" patternUnits="userSpaceOnUse"><rect width="5" height="5" fill="#ffffff"/><path d="M0,5 L5,0" stroke="%s" stroke-width="0.8"/></pattern></defs>`, hatchInk)
@@ -96,9 +96,9 @@ func legendSVG(span float64) template.HTML {
 		v := span * float64(k-5) / 5 // −span … +span, left to right
 		fmt.Fprintf(&b, `<rect x="%d" y="4" width="28" height="16" fill="%s"/>`, 4+k*28, report.Hex(report.Colour(v, span)))
 	}
-	fmt.Fprintf(&b, `<text x="4" y="34" font-size="11">−%s</text><text x="144" y="34" font-size="11" text-anchor="middle">0</text><text x="312" y="34" font-size="11" text-anchor="end">+%s mm</text>`, trim(span), trim(span))
-	fmt.Fprintf(&b, `<rect x="330" y="4" width="16" height="16" fill="%s"/><text x="350" y="16" font-size="11">not detected</text>`, greyNotDetected)
-	b.WriteString(`<rect x="330" y="26" width="16" height="16" fill="url(#fewkey)" stroke="#999" stroke-width="0.5"/><text x="350" y="38" font-size="11">too few points</text>`)
+	fmt.Fprintf(&b, `<text x="4" y="34" font-size="11">−%s</text><text x="144" y="34" font-size="11" text-anchor="middle">0</text><text x="312" y="34" font-size="11" text-anchor="end">+%s %s</text>`, trim(span), trim(span), unit)
+	fmt.Fprintf(&b, `<rect x="330" y="4" width="16" height="16" fill="%s"/><text x="350" y="16" font-size="11">%s</text>`, greyNotDetected, template.HTMLEscapeString(grey))
+	fmt.Fprintf(&b, `<rect x="330" y="26" width="16" height="16" fill="url(#fewkey)" stroke="#999" stroke-width="0.5"/><text x="350" y="38" font-size="11">%s</text>`, template.HTMLEscapeString(hatched))
 	b.WriteString(`<text x="4" y="56" font-size="11">purple: moved to the negative side · orange: moved to the normal (positive) side</text>`)
 	b.WriteString(`</svg>`)
 	return template.HTML(b.String())

@@ -48,6 +48,9 @@ type view struct {
 
 	Series     []seriesRow
 	CoreTrends string
+	RateMap    template.HTML
+	RateLegend template.HTML
+	RateSpan   string
 
 	Notes, Warnings []string
 }
@@ -139,7 +142,7 @@ func comparisonView(c *Comparison) *view {
 		SpanMM:       trim(span),
 		MinPoints:    s.MinPoints,
 		Map:          changeMapSVG(c.Cores, s.CoreSpacing, span),
-		Legend:       legendSVG(span),
+		Legend:       legendSVG(span, "mm", "not detected", "too few points"),
 		Counts: countRow{Cores: c.Summary.Cores, Significant: c.Summary.Significant, NotDetected: c.Summary.NotDetected, TooFew: c.Summary.TooFewPoints,
 			Mean: num(c.Summary.MeanDistance*1e3, 2) + " mm", RMS: num(c.Summary.RMSDistance*1e3, 2) + " mm", Max: "none"},
 		Alpha: "0.05",
@@ -214,6 +217,11 @@ func historyView(h *History) *view {
 	if ct := h.CoreTrends; ct != nil {
 		v.CoreTrends = fmt.Sprintf("%d core points; a rate was fitted at %d (three or more epochs with enough points), significant at 95 %% at %d; mean rate %s mm/yr, largest |rate| %s mm/yr.",
 			ct.Cores, ct.Fitted, ct.Significant, num(ct.MeanRateMMPerYear, 3), num(ct.MaxAbsMMPerYear, 3))
+		if len(h.Cores) > 0 && h.Spacing > 0 {
+			rc := rateCores(h.Cores, h.Rates)
+			span := spanMM(rc)
+			v.RateMap, v.RateLegend, v.RateSpan = changeMapSVG(rc, h.Spacing, span), legendSVG(span, "mm/yr", "not significant", "no rate"), trim(span)
+		}
 	}
 	return v
 }
