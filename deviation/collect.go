@@ -48,14 +48,14 @@ type Collector struct {
 	// per patch and overall, the uncertainty budget, the uncertainty that
 	// would decide the inconclusive points, and inconclusive counts per
 	// grid cell.
-	Decision  *Decision
-	Zones     []uncert.ZoneCounts
-	ZonesAll  uncert.ZoneCounts
-	Budget    uncert.BudgetStats
-	Needed    *uncert.NeededHist
-	CellInc   []int64
-	UStats    *Acc // the combined u of used points, as an accumulator
-	sawU      bool
+	Decision *Decision
+	Zones    []uncert.ZoneCounts
+	ZonesAll uncert.ZoneCounts
+	Budget   uncert.BudgetStats
+	Needed   *uncert.NeededHist
+	CellInc  []int64
+	UStats   *Acc // the combined u of used points, as an accumulator
+	sawU     bool
 }
 
 // NeededMaxM is the range of the needed-uncertainty histogram: an

@@ -17,8 +17,8 @@ import (
 	"saddlecheck/cloud"
 	"saddlecheck/deviation"
 	"saddlecheck/fit"
-	"saddlecheck/uncert"
 	"saddlecheck/report"
+	"saddlecheck/uncert"
 )
 
 func init() {
