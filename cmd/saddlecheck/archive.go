@@ -663,12 +663,27 @@ func archiveHistory(args []string, stdout, stderr io.Writer) error {
 	default:
 		h.Datum = fmt.Sprintf("%d of %d epochs were registered by best fit to the shell: for those, a rigid movement of the whole shell is absorbed by the registration and the mean offset shows no placement change; the shape coefficients are unaffected.", bestfit, len(es))
 	}
-	if *cores && len(es) >= 3 {
-		cores, rates, spacing, err := archiveCoreTrends(a, st, es, *set, archiveSplit(*columns))
-		if err != nil {
-			return err
+	if *cores {
+		// Positions of a best-fit epoch absorbed any rigid movement: only
+		// epochs on stable control enter the per-core rates.
+		var ctl []archive.Epoch
+		for _, e := range es {
+			if e.Datum == archive.DatumControl {
+				ctl = append(ctl, e)
+			}
 		}
-		h.SetCoreTrends(cores, rates, spacing)
+		if len(ctl) < len(es) {
+			h.Notes = append(h.Notes, fmt.Sprintf("Rates at core points use the %d epochs placed on stable control; the %d registered by best fit to the shell are left out.", len(ctl), len(es)-len(ctl)))
+		}
+		if len(ctl) >= 3 {
+			cores, rates, spacing, err := archiveCoreTrends(a, st, ctl, *set, archiveSplit(*columns))
+			if err != nil {
+				return err
+			}
+			h.SetCoreTrends(cores, rates, spacing)
+		} else {
+			h.Notes = append(h.Notes, "No rates at core points: fewer than three epochs on stable control.")
+		}
 	}
 	if err := os.MkdirAll(*out, 0o755); err != nil {
 		return err
