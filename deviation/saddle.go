@@ -440,5 +440,26 @@ func (s *Saddle) project(p r3.Vec) (Projection, r3.Vec) {
 	}, f
 }
 
+// Distances stores in dst the signed orthogonal distances of the site
+// points pts from the saddle (as Project's D) and returns dst, grown to
+// len(pts) if needed; dst may be nil. It allocates only to grow dst.
+func (s *Saddle) Distances(dst []float64, pts []r3.Vec) []float64 {
+	if cap(dst) < len(pts) {
+		dst = make([]float64, len(pts))
+	}
+	dst = dst[:len(pts)]
+	o, a0, a1, a2 := s.Origin, s.Axes[0], s.Axes[1], s.Axes[2]
+	for i, p := range pts {
+		dx, dy, dz := p.X-o.X, p.Y-o.Y, p.Z-o.Z
+		_, d, _ := s.closest(r3.Vec{
+			X: a0.X*dx + a0.Y*dy + a0.Z*dz,
+			Y: a1.X*dx + a1.Y*dy + a1.Z*dz,
+			Z: a2.X*dx + a2.Y*dy + a2.Z*dz,
+		})
+		dst[i] = d
+	}
+	return dst
+}
+
 // Height returns z = K1·x² + K2·y² at local (x, y).
 func (s *Saddle) Height(x, y float64) float64 { return s.K1*x*x + s.K2*y*y }

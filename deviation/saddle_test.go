@@ -384,6 +384,33 @@ func TestClosestLocalNoAlloc(t *testing.T) {
 	}
 }
 
+func TestSaddleDistances(t *testing.T) {
+	s := benchSaddle()
+	pts := benchPoints(s, 100)
+	got := s.Distances(make([]float64, 3), pts)
+	for i, p := range pts {
+		if want := s.Project(p).D; got[i] != want {
+			t.Fatalf("Distances[%d] = %g, Project %g", i, got[i], want)
+		}
+	}
+	if n := testing.AllocsPerRun(10, func() { got = s.Distances(got, pts) }); n != 0 {
+		t.Errorf("Distances into a large enough dst allocates %v times", n)
+	}
+}
+
+// BenchmarkSaddleDistances measures the batch form (distances only).
+func BenchmarkSaddleDistances(b *testing.B) {
+	s := benchSaddle()
+	pts := benchPoints(s, 1<<14)
+	dst := make([]float64, len(pts))
+	b.ReportAllocs()
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		s.Distances(dst, pts)
+	}
+	b.ReportMetric(float64(b.N)*float64(len(pts))/b.Elapsed().Seconds(), "points/s")
+}
+
 // benchPoints returns n survey-like points within ±5 cm of a 40 m × 40 m
 // rotated saddle at site offsets of 10^6 m.
 func benchPoints(s *Saddle, n int) []r3.Vec {
