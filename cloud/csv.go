@@ -778,6 +778,9 @@ func (r *csvReader) Info() Info {
 
 // Close implements Reader.
 func (r *csvReader) Close() error {
+	if r.err == nil {
+		r.err = &ParseError{Path: r.path, Line: int(r.lineNo), Err: errClosed}
+	}
 	if r.close == nil {
 		return nil
 	}

@@ -30,6 +30,9 @@ var (
 	ErrUnknownFormat = errors.New("unknown file format")
 )
 
+// errClosed is the error of a Read after Close.
+var errClosed = errors.New("read after Close")
+
 // MaxCoord is the largest coordinate magnitude a reader accepts, in metres.
 // 1e8 m is far beyond any projected grid (eastings and northings stay below
 // 1e7 m), so a larger value is a unit or column mistake (common practice).

@@ -680,13 +680,14 @@ func (r *plyReader) prefetch(size int) {
 	}
 	r.vertAt = r.off - (r.done * int64(r.vert.fixed))
 	left := (r.vert.count - r.done) * int64(r.vert.fixed)
+	full, free, quit := r.full, r.free, r.quit // the goroutine touches no field of r
 	go func(br io.Reader, off, left int64) {
-		defer close(r.full)
+		defer close(full)
 		for left > 0 {
 			var b *block
 			select {
-			case b = <-r.free:
-			case <-r.quit:
+			case b = <-free:
+			case <-quit:
 				return
 			}
 			b.data = b.data[:min(int64(cap(b.data)), left)]
@@ -694,8 +695,8 @@ func (r *plyReader) prefetch(size int) {
 			b.off, b.n, b.err = off, m, err
 			off, left = off+int64(m), left-int64(m)
 			select {
-			case r.full <- b:
-			case <-r.quit:
+			case full <- b:
+			case <-quit:
 				return
 			}
 			if err != nil {
@@ -889,6 +890,9 @@ func (r *plyReader) Close() error {
 	if r.quit != nil {
 		close(r.quit)
 		r.quit = nil
+	}
+	if r.err == nil {
+		r.err = r.errf(r.off, errClosed, "")
 	}
 	if r.close == nil {
 		return nil

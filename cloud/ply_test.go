@@ -587,3 +587,33 @@ func TestPLYAsciiMisaligned(t *testing.T) {
 		}
 	}
 }
+
+// TestPLYCloseMidway checks that closing a binary reader in the middle of
+// its vertex element stops its prefetching cleanly (run with -race).
+func TestPLYCloseMidway(t *testing.T) {
+	var fast telem
+	fast.name = "vertex"
+	fast.props = []tprop{{typ: "double", name: "x"}, {typ: "double", name: "y"}, {typ: "double", name: "z"}}
+	for k := 0; k < 50000; k++ {
+		fast.rows = append(fast.rows, []float64{float64(k), 1, 2})
+	}
+	path := writeFile(t, "c.ply", encodePLY(t, "binary_little_endian", []telem{fast}))
+	for _, reads := range []int{0, 1, 3} {
+		r, err := Open(path, Options{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		var c Chunk
+		for i := 0; i < reads; i++ {
+			if err := r.Read(&c, 1000); err != nil {
+				t.Fatal(err)
+			}
+		}
+		if err := r.Close(); err != nil {
+			t.Fatal(err)
+		}
+		if err := r.Read(&c, 1000); err == nil && reads > 0 {
+			t.Errorf("Read after Close (%d reads) succeeded", reads)
+		}
+	}
+}
