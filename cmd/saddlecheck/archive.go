@@ -162,6 +162,16 @@ func archiveAddStructure(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	defer a.Close()
+	// The design is archived as given; warn where it will not serve later.
+	if d, err := deviation.LoadDesign(*design); err != nil {
+		fmt.Fprintf(stderr, "warning: the design file cannot be loaded (%v); it is archived anyway, but recheck will fail and compare will estimate normals from the points\n", err)
+	} else {
+		for _, p := range d.Patches {
+			if p.Kind == "mesh" {
+				fmt.Fprintf(stderr, "warning: patch %s uses a mesh file, which the archive does not store: recheck and compare will not find it\n", p.ID)
+			}
+		}
+	}
 	s, err := a.AddStructure(*name, *design)
 	if err != nil {
 		return err
