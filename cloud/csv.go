@@ -633,19 +633,16 @@ func (r *csvReader) row(c *Chunk, line []byte, no int64) {
 	f := r.fields
 	nf := len(f)
 	reason := ""
+	for nf > r.ncols && f[nf-1].a == f[nf-1].b {
+		nf-- // trailing empty fields from a trailing delimiter
+	}
 	if nf > r.ncols {
-		switch {
-		case r.codeCol == r.ncols-1 && r.codeCol < nf:
+		if r.codeCol == r.ncols-1 {
 			// An unquoted code holding the delimiter: the rest of the line.
 			f[r.codeCol].b = f[nf-1].b
 			nf = r.ncols
-		default:
-			for nf > r.ncols && f[nf-1].a == f[nf-1].b {
-				nf-- // trailing empty fields from a trailing delimiter
-			}
-			if nf > r.ncols {
-				reason = fmt.Sprintf("%d fields where the columns name %d", nf, r.ncols)
-			}
+		} else {
+			reason = fmt.Sprintf("%d fields where the columns name %d", nf, r.ncols)
 		}
 	}
 	field := func(col int) ([]byte, bool) {
