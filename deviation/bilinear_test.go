@@ -160,6 +160,27 @@ func TestPrincipalSectionsAreParabolas(t *testing.T) {
 	}
 }
 
+func TestSaddleFromCornersDown(t *testing.T) {
+	// normal: down. The same worked example seen from below: z′ = −z and a
+	// right-handed frame give again K1 = −K2 = h/2 (the surface z = h·x·y
+	// is congruent to its mirror image), with local z along −Z; a point
+	// above the surface has a negative deviation.
+	h := 0.4
+	c := [4]r3.Vec{{}, {X: 1}, {X: 1, Y: 1, Z: h}, {Y: 1}}
+	p, err := NewBilinearPatch(c, r3.Vec{Z: -1}, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := p.Saddle
+	if math.Abs(s.K1-h/2) > tolExact || math.Abs(s.K2+h/2) > tolExact || r3.Norm(r3.Sub(s.Axes[2], r3.Vec{Z: -1})) > tolExact {
+		t.Errorf("saddle %+v", s)
+	}
+	pr := p.Project(r3.Vec{X: 0.5, Y: 0.5, Z: h/4 + 0.01})
+	if pr.D >= 0 || math.Abs(pr.D+0.01) > 1e-3 || pr.Normal.Z >= 0 || !pr.Inside {
+		t.Errorf("point above: %+v", pr)
+	}
+}
+
 func TestSaddleFromCornersErrors(t *testing.T) {
 	tests := []struct {
 		name string
