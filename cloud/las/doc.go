@@ -24,6 +24,12 @@
 // Compressed LAZ files (point format byte with bit 7 set, or a laszip VLR)
 // are refused with an *UnsupportedError: decompress them to LAS first.
 //
+// Speed: Open maps the file into memory where the system allows (unix
+// mmap), so records are decoded straight from the page cache without a
+// copy; elsewhere, and for NewReader, records are read in large blocks with
+// ReadAt. Decoding allocates nothing per point. A mapped file truncated by
+// another program while it is read gives a *FormatError, not a crash.
+//
 // Errors: a malformed file gives a *FormatError naming the byte offset; a
 // feature this reader does not handle gives an *UnsupportedError.
 //

@@ -6,6 +6,7 @@ import (
 	"io"
 	"math"
 	"os"
+	"runtime/debug"
 	"strings"
 
 	"gonum.org/v1/gonum/spatial/r3"
@@ -34,9 +35,12 @@ const (
 // Reader streams the point records of one LAS file. It implements
 // cloud.Reader.
 type Reader struct {
-	h    *Header
-	r    io.ReaderAt
-	f    *os.File // nil unless opened by Open
+	h *Header
+	r io.ReaderAt
+	f *os.File // nil unless opened by Open
+	// mm maps the file opened by Open, where the system allows: point
+	// records are then decoded from the page cache without a copy.
+	mm   []byte
 	path string
 	unit float64 // multiplier applied after scaling; 1 for metres
 	// mayExceed is set when scale and offset allow coordinates beyond
@@ -69,6 +73,7 @@ func Open(path string, opt cloud.Options) (*Reader, error) {
 	r.f = f
 	r.path = path
 	r.info.Path = path
+	r.mm = mapFile(f, st.Size())
 	return r, nil
 }
 
@@ -110,10 +115,17 @@ func (r *Reader) Close() error {
 	}
 	r.closed = true
 	r.buf = nil
-	if r.f != nil {
-		return r.f.Close()
+	var err error
+	if r.mm != nil {
+		err = unmapFile(r.mm)
+		r.mm = nil
 	}
-	return nil
+	if r.f != nil {
+		if cerr := r.f.Close(); err == nil {
+			err = cerr
+		}
+	}
+	return err
 }
 
 // Read resets c and fills it with up to max point records (max <= 0 means
@@ -136,13 +148,42 @@ func (r *Reader) Read(c *cloud.Chunk, max int) error {
 	}
 	rl := int(r.h.RecordLength)
 	need := n * rl
-	if cap(r.buf) < need {
-		r.buf = make([]byte, need)
-	}
-	buf := r.buf[:need]
 	off := int64(r.h.PointOffset) + r.next*int64(rl)
-	if got, err := r.r.ReadAt(buf, off); got < need {
-		return &FormatError{Offset: off + int64(got), Msg: fmt.Sprintf("point record %d is cut short", r.next+int64(got/rl)+1), Err: unexpected(err)}
+	var buf []byte
+	if r.mm != nil && off+int64(need) <= int64(len(r.mm)) {
+		buf = r.mm[off : off+int64(need)]
+	} else {
+		if cap(r.buf) < need {
+			r.buf = make([]byte, need)
+		}
+		buf = r.buf[:need]
+		if got, err := r.r.ReadAt(buf, off); got < need {
+			return &FormatError{Offset: off + int64(got), Msg: fmt.Sprintf("point record %d is cut short", r.next+int64(got/rl)+1), Err: unexpected(err)}
+		}
+	}
+	if err := r.decode(c, buf, n, off); err != nil {
+		return err
+	}
+	r.next += int64(n)
+	return nil
+}
+
+// decode fills c with the n records in buf. A file mapped into memory that
+// is truncated by another program while it is read faults on access; that
+// fault is turned into a *FormatError instead of a crash
+// (runtime/debug.SetPanicOnFault).
+func (r *Reader) decode(c *cloud.Chunk, buf []byte, n int, off int64) (err error) {
+	if r.mm != nil {
+		defer debug.SetPanicOnFault(debug.SetPanicOnFault(true))
+		defer func() {
+			if e := recover(); e != nil {
+				if _, ok := e.(interface{ Addr() uintptr }); !ok {
+					panic(e)
+				}
+				c.Reset()
+				err = &FormatError{Offset: off, Msg: "the file changed (was truncated) while it was being read", Err: io.ErrUnexpectedEOF}
+			}
+		}()
 	}
 	r.prepare(c, n)
 	if r.h.PointFormat < 6 {
@@ -153,7 +194,6 @@ func (r *Reader) Read(c *cloud.Chunk, max int) error {
 	if r.mayExceed {
 		rejectRange(c)
 	}
-	r.next += int64(n)
 	return nil
 }
 
