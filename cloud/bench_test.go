@@ -118,3 +118,30 @@ func BenchmarkPLYBinary(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkWorkload reads the peer workload files (make_workloads.py in the
+// shared peers folder) from the directory named by $SADDLECHECK_WORKLOADS,
+// for side-by-side runs against the peers on the same bytes:
+//
+//	SADDLECHECK_WORKLOADS=DIR go test -run '^$' -bench Workload ./cloud
+func BenchmarkWorkload(b *testing.B) {
+	dir := os.Getenv("SADDLECHECK_WORKLOADS")
+	if dir == "" {
+		b.Skip("set SADDLECHECK_WORKLOADS to the folder make_workloads.py wrote")
+	}
+	for _, name := range []string{"shots_20k.csv", "scan_1m.ply", "scan_10m.ply"} {
+		path := filepath.Join(dir, name)
+		st, err := os.Stat(path)
+		if err != nil {
+			continue
+		}
+		b.Run(name, func(b *testing.B) {
+			var c Chunk
+			b.SetBytes(st.Size())
+			b.ReportAllocs()
+			for b.Loop() {
+				readFile(b, path, &c)
+			}
+		})
+	}
+}
