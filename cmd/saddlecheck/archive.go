@@ -82,7 +82,8 @@ func runArchive(args []string, stdout, stderr io.Writer) error {
 	}
 	switch args[0] {
 	case "-h", "-help", "--help", "help":
-		fmt.Fprint(stdout, archiveHelp)
+		// Help goes to stderr, as every command's FlagSet usage does.
+		fmt.Fprint(stderr, archiveHelp)
 		return nil
 	}
 	sub, ok := archiveSubs[args[0]]
