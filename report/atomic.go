@@ -44,6 +44,10 @@ func (w *File) Commit() error {
 		err = cerr
 	}
 	if err == nil {
+		// CreateTemp makes the file private (0600); a report is for sharing
+		err = os.Chmod(w.f.Name(), 0o644)
+	}
+	if err == nil {
 		err = os.Rename(w.f.Name(), w.final)
 	}
 	if err != nil {

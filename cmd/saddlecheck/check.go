@@ -18,6 +18,7 @@ import (
 	"saddlecheck/deviation"
 	"saddlecheck/fit"
 	"saddlecheck/report"
+	"saddlecheck/report/geojson"
 	"saddlecheck/uncert"
 )
 
@@ -187,6 +188,35 @@ func check(c *checkConfig, stdout, stderr io.Writer) error {
 	defer csvw.Abort()
 	col := deviation.NewCollector(d, len(c.points))
 	sinks := []deviation.Sink{col, csvw}
+	span := d.Tolerance.LimitM * 1000
+	if n := len(d.Tolerance.BandsM); n > 0 {
+		span = d.Tolerance.BandsM[n-1] * 1000
+	}
+	var plyOut *report.PLYOut
+	if c.plyOut != "" {
+		if plyOut, err = report.NewPLYOut(c.plyOut, d.Structure, span); err != nil {
+			return err
+		}
+		defer plyOut.Abort()
+		sinks = append(sinks, plyOut)
+	}
+	var gj *geojson.Writer
+	if c.geojson != "" {
+		if gj, err = geojson.Create(c.geojson, &geojson.Options{Name: d.Structure}); err != nil {
+			return err
+		}
+		defer gj.Abort()
+		for _, p := range d.Patches {
+			if p.Kind == "mesh" {
+				continue
+			}
+			ring := []r3.Vec{p.Corners[0], p.Corners[1], p.Corners[2], p.Corners[3]}
+			if err := gj.AddPatch(p.ID, ring); err != nil {
+				return err
+			}
+		}
+		sinks = append(sinks, geojson.NewSink(gj, patchIDs, d.Tolerance.BandsM))
+	}
 	var enrich []deviation.Enricher
 	if unc != nil {
 		enrich = append(enrich, unc)
@@ -240,6 +270,18 @@ func check(c *checkConfig, stdout, stderr io.Writer) error {
 	}
 	if err := csvw.Commit(); err != nil {
 		return err
+	}
+	if plyOut != nil {
+		if err := plyOut.Close(); err != nil {
+			return err
+		}
+		s.Warnings = append(s.Warnings, "checked points also written as binary PLY: "+c.plyOut)
+	}
+	if gj != nil {
+		if err := gj.Close(); err != nil {
+			return err
+		}
+		s.Warnings = append(s.Warnings, "GeoJSON written to "+c.geojson+": its coordinates are local site-grid easting/northing in metres, not WGS 84 longitude/latitude as RFC 7946 requires; do not overlay it on web maps without a transformation")
 	}
 	if err := report.WritePatchesCSV(filepath.Join(c.out, "patches.csv"), s); err != nil {
 		return err
