@@ -371,6 +371,9 @@ func TestPLYErrors(t *testing.T) {
 			if !errors.As(err, &fe) {
 				t.Fatalf("error %T %q is no *FormatError", err, err)
 			}
+			if want := "bad.ply: byte offset " + strconv.FormatInt(fe.Offset, 10) + ": "; !strings.HasPrefix(err.Error(), want) || fe.Offset < 0 || fe.Offset > int64(len(tt.data)) {
+				t.Errorf("error %q does not start with %q inside the file", err, want)
+			}
 			if tt.is != nil && !errors.Is(err, tt.is) {
 				t.Errorf("error %q does not wrap %v", err, tt.is)
 			}
