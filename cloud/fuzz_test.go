@@ -88,6 +88,7 @@ func FuzzCSV(f *testing.F) {
 			checkParseError(t, err, opt.Columns == nil)
 			return
 		}
+		defer r.Close()
 		tb, err := drain(t, r, 5)
 		if err != nil {
 			checkParseError(t, err, true)
@@ -108,6 +109,7 @@ func FuzzPLY(f *testing.F) {
 	f.Fuzz(func(t *testing.T, data []byte) {
 		r, err := newPLY(bytes.NewReader(data), "fuzz.ply", int64(len(data)), Options{})
 		if err == nil {
+			defer r.Close()
 			var tb table
 			tb, err = drain(t, r, 3)
 			if err == nil {

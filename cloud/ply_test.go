@@ -359,9 +359,9 @@ func TestPLYErrors(t *testing.T) {
 			if size == 0 {
 				size = int64(len(tt.data))
 			}
-			var err error
 			r, err := newPLY(bytes.NewReader(tt.data), "bad.ply", size, Options{})
 			if err == nil {
+				defer r.Close()
 				_, err = drain(t, r, 0)
 			}
 			if err == nil {
