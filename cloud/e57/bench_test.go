@@ -5,6 +5,7 @@ import (
 	"os"
 	"path/filepath"
 	"testing"
+	"time"
 
 	"saddlecheck/cloud"
 )
@@ -44,6 +45,7 @@ func BenchmarkE57Read(b *testing.B) {
 			b.ReportAllocs()
 			var c cloud.Chunk
 			b.ResetTimer()
+			defer reportCPU(b, size, cpuTime())
 			for i := 0; i < b.N; i++ {
 				r, err := Open(p, cloud.Options{})
 				if err != nil {
@@ -74,6 +76,7 @@ func BenchmarkE57Pages(b *testing.B) {
 	b.SetBytes(size)
 	b.ReportAllocs()
 	b.ResetTimer()
+	defer reportCPU(b, size, cpuTime())
 	for i := 0; i < b.N; i++ {
 		pg := newPager(f, size)
 		for k := int64(0); k < pg.pages; k += blockPages {
@@ -81,5 +84,13 @@ func BenchmarkE57Pages(b *testing.B) {
 				b.Fatal(err)
 			}
 		}
+	}
+}
+
+// reportCPU adds the metric MB/cpu-s: bytes per second of process CPU time
+// since cpu0, steadier than wall-clock MB/s on a shared machine.
+func reportCPU(b *testing.B, size int64, cpu0 time.Duration) {
+	if cpu := cpuTime() - cpu0; cpu > 0 {
+		b.ReportMetric(float64(b.N)*float64(size)/1e6/cpu.Seconds(), "MB/cpu-s")
 	}
 }

@@ -289,10 +289,12 @@ func (r *Reader) emit(c *cloud.Chunk, s *Scan, n int) {
 			if r.unit != 1 {
 				p = r3.Scale(r.unit, p)
 			}
-			// One comparison catches NaN, ±Inf and magnitudes beyond
-			// cloud.MaxCoord; the reason is worked out only then.
-			if big := max(math.Abs(p.X), math.Abs(p.Y), math.Abs(p.Z)); !(big <= cloud.MaxCoord) {
-				reject = badValue(p, big)
+			// The comparisons fail for NaN too, so they catch NaN, ±Inf
+			// and magnitudes beyond cloud.MaxCoord; the reason is worked
+			// out only then.
+			const lim = cloud.MaxCoord
+			if !(math.Abs(p.X) <= lim && math.Abs(p.Y) <= lim && math.Abs(p.Z) <= lim) {
+				reject = badValue(p)
 				p = r3.Vec{}
 			}
 		}
@@ -334,9 +336,10 @@ func invalidReason(state float64) string {
 	return "E57 invalid state out of range"
 }
 
-// badValue gives the reject reason of a point whose largest coordinate
-// magnitude m is NaN, infinite or beyond cloud.MaxCoord.
-func badValue(p r3.Vec, m float64) string {
+// badValue gives the reject reason of a point with a NaN or infinite
+// coordinate or one beyond cloud.MaxCoord.
+func badValue(p r3.Vec) string {
+	m := max(math.Abs(p.X), math.Abs(p.Y), math.Abs(p.Z))
 	if math.IsNaN(m) || math.IsInf(m, 0) {
 		return fmt.Sprintf("not finite (%g, %g, %g)", p.X, p.Y, p.Z)
 	}

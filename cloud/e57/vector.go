@@ -60,14 +60,14 @@ func (s *stream) decode(dst []float64) {
 	le := binary.LittleEndian
 	switch {
 	case f.Type == "Float" && !f.Single:
-		o := int(s.bit / 8)
+		src := s.buf[s.bit/8:][:8*len(dst)]
 		for i := range dst {
-			dst[i] = math.Float64frombits(le.Uint64(s.buf[o+8*i:]))
+			dst[i] = math.Float64frombits(le.Uint64(src[8*i : 8*i+8]))
 		}
 	case f.Type == "Float":
-		o := int(s.bit / 8)
+		src := s.buf[s.bit/8:][:4*len(dst)]
 		for i := range dst {
-			dst[i] = float64(math.Float32frombits(le.Uint32(s.buf[o+4*i:])))
+			dst[i] = float64(math.Float32frombits(le.Uint32(src[4*i : 4*i+4])))
 		}
 	case f.Bits == 0:
 		v := float64(f.Min)*f.Scale + f.Offset
