@@ -2,6 +2,7 @@ package fit
 
 import (
 	"math"
+	"math/rand/v2"
 	"testing"
 
 	"gonum.org/v1/gonum/spatial/r3"
@@ -82,4 +83,38 @@ func TestMedian(t *testing.T) {
 			t.Errorf("median(%v): got %v, want %v", tc.v, got, tc.want)
 		}
 	}
+}
+
+// TestRANSACSettings: a given threshold is used as is (no noise
+// estimate), the seed is recorded, an injected source is used, and a
+// different seed reaches the same surface.
+func TestRANSACSettings(t *testing.T) {
+	truth := synthSaddle()
+	pts, out := synthPoints(&truth, workloadOptions(5000, 0.3, 0, 17))
+	m := NewQuadricModel(pts)
+	res, err := RANSAC[Quadric](m, pts, &RANSACSettings{Threshold: 0.01, Seed: 99})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Threshold != 0.01 || res.Sigma != 0 || res.Seed != 99 {
+		t.Errorf("got threshold %v, sigma %v, seed %v; want 0.01, 0, 99", res.Threshold, res.Sigma, res.Seed)
+	}
+	// Outliers are ≥ 5 cm off; of the ~3500 inliers (σ = 2 mm) hardly any
+	// is beyond T = 1 cm = 5σ.
+	wrong := 0
+	for i := range pts {
+		if res.Inliers[i] == out[i] {
+			wrong++
+		}
+	}
+	if wrong > 3 {
+		t.Errorf("misclassified %d points, want ≤ 3", wrong)
+	}
+	a, _ := NearestSaddle(&res.Model, r3.Vec{Z: 1})
+	res2, err := RANSAC[Quadric](m, pts, &RANSACSettings{Rand: rand.New(rand.NewPCG(5, 6))})
+	if err != nil {
+		t.Fatal(err)
+	}
+	b, _ := NearestSaddle(&res2.Model, r3.Vec{Z: 1})
+	saddleClose(t, &b, &a, 0.02, 0.01, 0.005, workloadPatch)
 }
