@@ -229,8 +229,8 @@ func TestDifferenceDatum(t *testing.T) {
 			if tc.wantN == 2 && len(diff.Dropped) != 2 {
 				t.Errorf("dropped: got %v, want x0 and kappa", diff.Dropped)
 			}
-			if diff.Note == "" {
-				t.Error("no datum statement")
+			if !strings.Contains(diff.Note, "Tested: k1, k2") {
+				t.Errorf("datum statement %q does not list the tested parameters", diff.Note)
 			}
 		})
 	}

@@ -184,7 +184,7 @@ func Difference(earlier, later Estimate, d1, d2 Datum) (Diff, error) {
 	if earlier.Dof > 0 && later.Dof > 0 {
 		out.Dof = earlier.Dof + later.Dof
 	}
-	out.Note = datumNote(d1, d2, out.Dropped)
+	out.Note = datumNote(d1, d2, out.Params, out.Dropped)
 	return out, nil
 }
 
@@ -200,9 +200,17 @@ func DatumStatement(d1, d2 Datum) string {
 	return "At least one epoch was registered by best fit to the shell: a rigid movement (translation, rotation) of the shell as a whole was absorbed by that registration and is not visible; distances show changes of shape only."
 }
 
-func datumNote(d1, d2 Datum, dropped []string) string {
+func datumNote(d1, d2 Datum, tested []Param, dropped []string) string {
+	names := make([]string, len(tested))
+	for i, p := range tested {
+		names[i] = p.Name
+	}
+	list := "none"
+	if len(names) > 0 {
+		list = strings.Join(names, ", ")
+	}
 	if d1 == DatumControl && d2 == DatumControl {
-		return "Both epochs are placed on stable control: position, orientation and shape are tested."
+		return "Both epochs are placed on stable control: every parameter is testable. Tested: " + list + "."
 	}
 	var which string
 	switch {
@@ -213,7 +221,7 @@ func datumNote(d1, d2 Datum, dropped []string) string {
 	default:
 		which = "The later epoch was"
 	}
-	s := which + " registered by best fit to the shell, so rigid motion (translation, rotation) is not testable: only the shape is tested."
+	s := which + " registered by best fit to the shell, so rigid motion (translation, rotation) is not testable: only the shape is tested. Tested: " + list + "."
 	if len(dropped) > 0 {
 		s += " Left out: " + strings.Join(dropped, ", ") + "."
 	}
