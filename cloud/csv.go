@@ -279,7 +279,7 @@ func (r *csvReader) guessXYZ() error {
 		for j, f := range r.fields {
 			v, ok := r.parseNum(line[f.a:f.b])
 			if !ok {
-				return ask("column " + strconv.Itoa(j+1) + " is not numeric")
+				return ask("column " + strconv.Itoa(j+1) + " is not numeric, so the file is not plain x,y,z")
 			}
 			if j == 0 {
 				if v != math.Trunc(v) || (k > 0 && v <= prev) {
@@ -601,7 +601,7 @@ func (r *csvReader) Read(c *Chunk, max int) error {
 	r.err = io.EOF
 	if r.rows > 0 && 2*r.rejected > r.rows {
 		r.err = &ParseError{Path: r.path, Line: int(r.firstBad),
-			Err: fmt.Errorf("%w: %d of %d data rows rejected; first on line %d: %s", ErrTooManyRejected, r.rejected, r.rows, r.firstBad, r.firstReason)}
+			Err: fmt.Errorf("%w: %d of %d data rows rejected, the first (this line) for %s", ErrTooManyRejected, r.rejected, r.rows, r.firstReason)}
 	}
 	return r.err
 }

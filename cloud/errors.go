@@ -71,7 +71,7 @@ func (e *ParseError) Error() string {
 		msg = e.Err.Error()
 	}
 	b.WriteString(msg)
-	if h := hint(e.Err); h != "" && !strings.Contains(msg, h) {
+	if h := hint(e.Err); h != "" && !strings.Contains(msg, "--columns") {
 		b.WriteString(" (")
 		b.WriteString(h)
 		b.WriteString(")")
@@ -81,7 +81,8 @@ func (e *ParseError) Error() string {
 
 func (e *ParseError) Unwrap() error { return e.Err }
 
-// hint tells the user what to do about err.
+// hint tells the user what to do about err. Error leaves it out when the
+// message already tells (names --columns).
 func hint(err error) string {
 	switch {
 	case errors.Is(err, ErrTooManyRejected):
