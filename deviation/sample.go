@@ -14,16 +14,19 @@ import (
 // size of the input; the sample is a fixed function of the seed and the
 // input order.
 type Sampler struct {
-	Max  int
-	rng  *rand.Rand
-	pts  [][]r3.Vec
-	seen []int64
+	Max int
+	// KeepIDs makes the sampler keep each sampled point's id beside it.
+	KeepIDs bool
+	rng     *rand.Rand
+	pts     [][]r3.Vec
+	ids     [][]string
+	seen    []int64
 }
 
 // NewSampler returns a Sampler for the patches of d.
 func NewSampler(d *Design, max int, seed uint64) *Sampler {
 	return &Sampler{Max: max, rng: rand.New(rand.NewPCG(seed, 0x5a4d)), pts: make([][]r3.Vec, len(d.Patches)),
-		seen: make([]int64, len(d.Patches))}
+		ids: make([][]string, len(d.Patches)), seen: make([]int64, len(d.Patches))}
 }
 
 // Consume adds the points of r to the reservoirs.
@@ -38,10 +41,16 @@ func (s *Sampler) Consume(r *Result) error {
 		s.seen[k]++
 		if len(s.pts[k]) < s.Max {
 			s.pts[k] = append(s.pts[k], c.P[i])
+			if s.KeepIDs {
+				s.ids[k] = append(s.ids[k], c.PointID(i))
+			}
 			continue
 		}
 		if j := s.rng.Int64N(s.seen[k]); j < int64(s.Max) {
 			s.pts[k][j] = c.P[i]
+			if s.KeepIDs {
+				s.ids[k][j] = c.PointID(i)
+			}
 		}
 	}
 	return nil
@@ -49,6 +58,9 @@ func (s *Sampler) Consume(r *Result) error {
 
 // Points returns the sample of patch k.
 func (s *Sampler) Points(k int) []r3.Vec { return s.pts[k] }
+
+// IDs returns the ids of the sample of patch k (nil unless KeepIDs).
+func (s *Sampler) IDs(k int) []string { return s.ids[k] }
 
 // Seen returns how many points of patch k were offered.
 func (s *Sampler) Seen(k int) int64 { return s.seen[k] }
