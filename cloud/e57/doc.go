@@ -39,8 +39,10 @@
 //
 // References:
 //   - ASTM E2807-11 (2019), Standard Specification for 3D Imaging Data
-//     Exchange, Version 1.0: §7 physical layer (pages, CRC-32C), §8 XML
-//     elements, §9 CompressedVector binary section and packets.
-//   - RFC 3720 (iSCSI), §12.1 and appendix B.4: the CRC-32C polynomial and
-//     its check values.
+//     Exchange, Version 1.0: the physical layer (pages, CRC-32C), the XML
+//     elements (data3D, pose, cartesianBounds, points, prototype) and the
+//     CompressedVector binary section with its packets. Clause numbers are
+//     not cited here: they are from memory.
+//   - RFC 3720 (iSCSI): the CRC-32C polynomial (its digest section, from
+//     memory) and the check values of appendix B.4.
 package e57

@@ -295,7 +295,7 @@ func TestBadCRC(t *testing.T) {
 
 // TestSynthetic reads synthetic files whose truth is known: the values
 // written, the pose (90° about z: (x, y, z) → (−y, x, z), then +t) and the
-// spherical conversion of ASTM E2807 §8.4.6, x = r·cos(el)·cos(az), y =
+// spherical conversion of ASTM E2807, x = r·cos(el)·cos(az), y =
 // r·cos(el)·sin(az), z = r·sin(el). Packets hold unequal, unaligned shares
 // of each bytestream so that packed values straddle packets and pages.
 func TestSynthetic(t *testing.T) {

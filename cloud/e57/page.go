@@ -8,7 +8,7 @@ import (
 	"io"
 )
 
-// Physical layer constants (ASTM E2807 §7).
+// Physical layer constants (ASTM E2807, physical layer).
 const (
 	pageSize     = 1024
 	pageData     = 1020 // data bytes per page; the last 4 hold the CRC
@@ -18,7 +18,7 @@ const (
 )
 
 // castagnoli is the CRC-32C table (polynomial 0x1EDC6F41, reflected
-// 0x82F63B78; RFC 3720 §12.1).
+// 0x82F63B78; RFC 3720, from memory).
 var castagnoli = crc32.MakeTable(crc32.Castagnoli)
 
 // pageCRC returns the CRC-32C of b.
@@ -106,7 +106,7 @@ func (p *pager) readAt(dst []byte, off int64) error {
 	return nil
 }
 
-// header is the 48-byte E57 file header (ASTM E2807 §7.2, table 2).
+// header is the 48-byte E57 file header (ASTM E2807, file header).
 type header struct {
 	Major, Minor uint32
 	Length       uint64 // physical length of the file

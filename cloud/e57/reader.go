@@ -271,7 +271,7 @@ func (r *Reader) emit(c *cloud.Chunk, s *Scan, n int) {
 		if bad != nil && bad[i] != 0 {
 			reject = invalidReason(bad[i])
 		} else if s.Spherical {
-			// E57 §8.4.6 (sphericalRange, Azimuth, Elevation), radians.
+			// E57 sphericalRange, sphericalAzimuth, sphericalElevation (radians).
 			sa, ca := math.Sincos(b[i])
 			se, ce := math.Sincos(cc[i])
 			p = r3.Vec{X: a[i] * ce * ca, Y: a[i] * ce * sa, Z: a[i] * se}
@@ -324,7 +324,7 @@ func (r *Reader) emit(c *cloud.Chunk, s *Scan, n int) {
 	v.left -= int64(n)
 }
 
-// invalidReason names an E57 invalid state (E57 §8.4.5: 0 valid, 1 the
+// invalidReason names an E57 invalid state (ASTM E2807, from memory: 0 valid, 1 the
 // direction is meaningful but not the range, 2 no meaningful value).
 func invalidReason(state float64) string {
 	switch state {

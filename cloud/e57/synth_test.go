@@ -27,7 +27,7 @@ type synthScan struct {
 }
 
 // pack returns the bytestream of f: Float values little-endian, integers
-// bit-packed least significant bit first (ASTM E2807 §9.6 bitpack codec).
+// bit-packed least significant bit first (ASTM E2807 bitpack codec).
 func (f *synthField) pack() []byte {
 	le := binary.LittleEndian
 	if f.Type == "Float" {

@@ -7,7 +7,7 @@ import (
 	"math"
 )
 
-// Packet types of a CompressedVector binary section (E57 §9.3).
+// Packet types of a CompressedVector binary section (ASTM E2807).
 const (
 	packetIndex = 0
 	packetData  = 1
@@ -185,7 +185,7 @@ func (v *vector) fill() error {
 }
 
 // packet reads the next packet; data packets feed the streams, index and
-// empty packets are skipped (E57 §9.3).
+// empty packets are skipped.
 func (v *vector) packet() error {
 	phys := toPhysical(v.next)
 	if v.next+4 > v.end {

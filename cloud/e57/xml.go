@@ -39,7 +39,7 @@ func (e *elem) kid(name string) *elem {
 }
 
 // float returns the value of a Float or Integer element child name, or def
-// when the child is absent or empty (E57 §8: an empty Float is 0).
+// when the child is absent or empty (an empty Float element is 0).
 func (e *elem) float(name string, def float64) (float64, error) {
 	k := e.kid(name)
 	if k == nil {
@@ -205,7 +205,7 @@ func parseScan(v *elem, idx int) (Scan, error) {
 }
 
 // flatten lists the terminal fields of a prototype depth-first, the order
-// of their bytestreams (E57 §9.4).
+// of their bytestreams.
 func flatten(e *elem, prefix string, dst *[]Field) error {
 	for i := range e.Kids {
 		k := &e.Kids[i]

@@ -9,7 +9,7 @@ import (
 )
 
 // geoKeyNames names the GeoTIFF keys a LAS CRS usually carries (GeoTIFF
-// Format Specification 1.0, §6.2; key numbers from memory).
+// Format Specification 1.0, key ID summary; key numbers from memory).
 var geoKeyNames = map[uint16]string{
 	1024: "GTModelType",
 	1025: "GTRasterType",
@@ -73,7 +73,7 @@ func (h *Header) readGeoKeys(r io.ReaderAt) error {
 
 // geoKeys renders a GeoKeyDirectory (an array of uint16: version, revision,
 // minor revision, key count, then per key: id, tag location, count, value or
-// offset; GeoTIFF 1.0 §2.4) as "Name(id)=value; …". Values held in the
+// offset; GeoTIFF 1.0 GeoKeyDirectoryTag, from memory) as "Name(id)=value; …". Values held in the
 // double or ASCII parameter records are looked up there.
 func geoKeys(dir, doubles, ascii []byte) (summary string, linearUnit int) {
 	le := binary.LittleEndian

@@ -40,5 +40,5 @@
 //   - ASPRS, LAS Specification 1.4 – R15 (2019), public header block,
 //     variable length records, point data record formats 0–10.
 //   - ASPRS, LAS Specification 1.2 (2008), public header block of 227 bytes.
-//   - GeoTIFF Format Specification 1.0 (1995), §2.4 GeoKeyDirectoryTag.
+//   - GeoTIFF Format Specification 1.0 (1995), GeoKeyDirectoryTag.
 package las

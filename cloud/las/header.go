@@ -186,7 +186,7 @@ func readHeader(r io.ReaderAt, size int64) (*Header, error) {
 		return nil, &FormatError{Offset: 96, Msg: fmt.Sprintf("offset to point data %d lies inside the %d-byte header", h.PointOffset, h.HeaderSize)}
 	}
 
-	// Count: LAS 1.4 R15 §2.4 says the legacy field is zero where the
+	// Count: LAS 1.4 R15 (public header block) says the legacy field is zero where the
 	// count does not fit or the format is 6–10; the 64-bit field rules.
 	h.Count = int64(h.LegacyCount)
 	if h.VersionMinor >= 4 && (h.LegacyCount == 0 || uint64(h.LegacyCount) != h.Count64) {

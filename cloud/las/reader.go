@@ -295,7 +295,7 @@ func (r *Reader) decodeExtended(c *cloud.Chunk, buf []byte, n int) {
 }
 
 // scaler applies X = X_record·X_scale + X_offset (likewise Y, Z) in float64
-// (LAS 1.4 R15, §2.6 "X, Y, and Z scale factors").
+// (LAS 1.4 R15, public header block, "X, Y, and Z scale factor").
 type scaler struct{ scale, offset [3]float64 }
 
 // at decodes the three little-endian int32 coordinates at the start of b.
