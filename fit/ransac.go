@@ -97,8 +97,10 @@ const madScale = 1.4826
 //     repeatedly while the cost decreases;
 //   - scoring on a random subsample of ScoreSample points, so the search
 //     costs O(N·ScoreSample), then one verification on all points: the
-//     winner is refitted to all its inliers and the final inlier mask is
-//     taken from that refit.
+//     winner's inliers among all points are found, it is refitted to them
+//     (to at most refitSample = 65536 of them, evenly strided, which
+//     determines a quadric far better than the search needs), and the
+//     final inlier mask of all points is taken from that refit.
 //
 // When Threshold is zero the search uses InitialThreshold, and the final
 // threshold is T = k·σ̂ with σ̂ = 1.4826·median(eᵢ) over the points within
@@ -258,7 +260,7 @@ func RANSAC[H any](m SampleModel[H], pts []r3.Vec, s *RANSACSettings) (*RANSACRe
 		}
 	}
 	if len(inl) >= k {
-		if h, ok := m.Refit(inl); ok {
+		if h, ok := m.Refit(strided(inl, refitSample)); ok {
 			res.Model = h
 			parallelDistances(m, all, h, pts)
 			if set.Threshold == 0 {
@@ -346,6 +348,9 @@ func robustThreshold(e []float64, t0, k float64) (T, sigma float64) {
 	}
 	return T, sigma
 }
+
+// refitSample bounds the number of inliers of the final LO refit.
+const refitSample = 1 << 16
 
 // robustSample bounds the number of distances robustThreshold looks at.
 const robustSample = 1 << 17
