@@ -744,46 +744,55 @@ func (d *Design) Classify(x r3.Vec) (patch int, pr Projection, st Status) {
 	}
 	reach := far + math.Abs(d.OffsetM)
 	reach2 := reach * reach
-	best, bestAbs := -1, math.Inf(1)
-	near, nearAbs := -1, math.Inf(1)
-	var bestPr, nearPr Projection
+	patch, near := -1, -1
+	bestAbs, nearAbs := math.Inf(1), math.Inf(1)
 	skipped := false
-	for pass := 0; pass < 2; pass++ {
+	for i := range d.Patches {
+		pt := &d.Patches[i]
+		if pt.hasBox && boxDist2(x, pt.boxLo, pt.boxHi) > reach2 {
+			skipped = true
+			continue
+		}
+		p := pt.Surface.Project(x)
+		a := math.Abs(p.D)
+		if a < nearAbs {
+			near, nearAbs = i, a
+		}
+		if p.Inside && a < bestAbs {
+			patch, bestAbs, pr = i, a, p
+		}
+	}
+	if skipped && (patch < 0 || math.Abs(pr.D-d.OffsetM) > far) {
+		// Second pass, over the skipped patches only: the result is then
+		// the same as projecting on every patch.
 		for i := range d.Patches {
 			pt := &d.Patches[i]
-			if pt.hasBox {
-				outside := boxDist2(x, pt.boxLo, pt.boxHi) > reach2
-				if outside != (pass == 1) {
-					skipped = skipped || outside
-					continue
-				}
-			} else if pass == 1 {
+			if !pt.hasBox || boxDist2(x, pt.boxLo, pt.boxHi) <= reach2 {
 				continue
 			}
 			p := pt.Surface.Project(x)
 			a := math.Abs(p.D)
-			if p.Inside && a < bestAbs {
-				best, bestAbs, bestPr = i, a, p
-			}
 			if a < nearAbs {
-				near, nearAbs, nearPr = i, a, p
+				near, nearAbs = i, a
+			}
+			if p.Inside && a < bestAbs {
+				patch, bestAbs, pr = i, a, p
 			}
 		}
-		if pass == 0 && (!skipped || (best >= 0 && math.Abs(bestPr.D-d.OffsetM) <= far)) {
-			break
-		}
 	}
-	if best < 0 {
+	switch {
+	case patch < 0:
 		if near >= 0 {
-			nearPr.D -= d.OffsetM
+			pr = d.Patches[near].Surface.Project(x)
+			pr.D -= d.OffsetM
 		}
-		return -1, nearPr, StatusOutside
+		return -1, pr, StatusOutside
+	case math.Abs(pr.D-d.OffsetM) > far:
+		pr.D -= d.OffsetM
+		return patch, pr, StatusFar
 	}
-	bestPr.D -= d.OffsetM
-	if math.Abs(bestPr.D) > far {
-		return best, bestPr, StatusFar
-	}
-	return best, bestPr, StatusUsed
+	pr.D -= d.OffsetM
+	return patch, pr, StatusUsed
 }
 
 // boxDist2 is the squared distance from x to the box [lo, hi].
