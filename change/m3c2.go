@@ -495,3 +495,12 @@ func summarise(cores []Core) Summary {
 	}
 	return sum
 }
+
+// Resolved returns s with every zero field replaced by its default, as
+// Compare uses it (for reports that state the settings).
+func (s Settings) Resolved() Settings { return s.withDefaults() }
+
+// CombineRegistration returns the registration error of a comparison of two
+// epochs whose registrations (each to the common datum) have independent
+// standard errors reg1 and reg2, in quadrature: sqrt(reg1² + reg2²).
+func CombineRegistration(reg1, reg2 float64) float64 { return math.Hypot(reg1, reg2) }

@@ -278,3 +278,11 @@ func TestCoreTrends(t *testing.T) {
 	// sqrt(0.009²/9 + 0.004²) = sqrt(9e-6 + 16e-6) = 5 mm.
 	near(t, "Position.U", Position{Mean: 0, Sigma: 0.009, N: 9}.U(0.004), 0.005, tolExact)
 }
+
+func TestSettingsResolved(t *testing.T) {
+	r := Settings{Radius: 0.3}.Resolved()
+	if r.Radius != 0.3 || r.CoreSpacing != DefaultCoreSpacing || r.MinPoints != DefaultMinPoints || r.NormalScale != DefaultNormalScale || r.Workers < 1 {
+		t.Errorf("resolved settings: %+v", r)
+	}
+	near(t, "combined registration", CombineRegistration(0.003, 0.004), 0.005, tolExact)
+}
