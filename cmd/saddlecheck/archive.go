@@ -6,7 +6,6 @@ import (
 	"flag"
 	"fmt"
 	"io"
-	"math"
 	"os"
 	"path/filepath"
 	"strconv"
@@ -498,26 +497,13 @@ func m3c2Flags(fs *flag.FlagSet) *change.Settings {
 	return s
 }
 
-// resolveM3C2 completes the settings: the registration error of a
-// comparison combines both epochs' registration standard errors in
-// quadrature.
+// resolveM3C2 completes the settings for two epochs: defaults, and the
+// registration error of the comparison from both epochs' registration
+// standard errors (mm in the archive, m here).
 func resolveM3C2(s change.Settings, e1, e2 archive.Epoch) change.Settings {
-	s.Registration = math.Hypot(e1.RegistrationMM, e2.RegistrationMM) * 1e-3
-	if s.CoreSpacing <= 0 {
-		s.CoreSpacing = change.DefaultCoreSpacing
-	}
-	if s.Radius <= 0 {
-		s.Radius = change.DefaultRadius
-	}
-	if s.HalfLength <= 0 {
-		s.HalfLength = change.DefaultHalfLength
-	}
-	if s.MinPoints <= 0 {
-		s.MinPoints = change.DefaultMinPoints
-	}
-	if s.NormalScale <= 0 {
-		s.NormalScale = change.DefaultNormalScale
-	}
+	s.Registration = change.CombineRegistration(e1.RegistrationMM*1e-3, e2.RegistrationMM*1e-3)
+	s = s.Resolved()
+	s.Workers = 0 // not a property of the comparison; Compare picks it
 	return s
 }
 
