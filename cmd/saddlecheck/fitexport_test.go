@@ -58,7 +58,7 @@ func TestFitCommandRecoversSaddle(t *testing.T) {
 		RMSMM        float64 `json:"rms_mm"`
 		Inliers      int
 		Outliers     int
-		QuadricClass string `json:"quadric_class"`
+		QuadricClass string   `json:"quadric_class"`
 		OutlierIDs   []string `json:"outlier_ids"`
 	}
 	raw, _ := os.ReadFile(filepath.Join(out, "fit.json"))
