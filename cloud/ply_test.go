@@ -183,6 +183,21 @@ func TestPLYEncodings(t *testing.T) {
 				if err != nil {
 					t.Fatalf("%s: %v", enc, err)
 				}
+				// Small chunks cut across the reader's blocks: same records.
+				r, err := Open(path, Options{})
+				if err != nil {
+					t.Fatal(err)
+				}
+				small, err := drain(t, r, 777)
+				r.Close()
+				if err != nil || len(small.P) != len(tb.P) {
+					t.Fatalf("%s: chunks of 777: %d points, %v", enc, len(small.P), err)
+				}
+				for i := range tb.P {
+					if small.P[i] != tb.P[i] || small.Line[i] != tb.Line[i] {
+						t.Fatalf("%s: chunks of 777: record %d differs", enc, i+1)
+					}
+				}
 				if info.Format != "ply-"+enc || info.Count != int64(len(vert.rows)) {
 					t.Errorf("%s: info %q count %d", enc, info.Format, info.Count)
 				}
