@@ -194,6 +194,11 @@ type BilinearPatch struct {
 	MarginM float64
 	corners [4]r3.Vec
 	f       *bilinearFrame
+	// u = uL·f + u0 and v = vL·f + v0 for a foot f in the saddle's local
+	// frame: the dual rows a*, b* expressed in that frame, which spares
+	// Project the site-frame round trip.
+	uL, vL r3.Vec
+	u0, v0 float64
 }
 
 var _ Surface = (*BilinearPatch)(nil)
@@ -210,7 +215,13 @@ func NewBilinearPatch(c [4]r3.Vec, up r3.Vec, marginM float64) (*BilinearPatch, 
 	if err != nil {
 		return nil, err
 	}
-	return &BilinearPatch{Saddle: f.saddle, MarginM: marginM, corners: c, f: f}, nil
+	p := &BilinearPatch{Saddle: f.saddle, MarginM: marginM, corners: c, f: f}
+	ax := &p.Saddle.Axes
+	p.uL = r3.Vec{X: r3.Dot(f.as, ax[0]), Y: r3.Dot(f.as, ax[1]), Z: r3.Dot(f.as, ax[2])}
+	p.vL = r3.Vec{X: r3.Dot(f.bs, ax[0]), Y: r3.Dot(f.bs, ax[1]), Z: r3.Dot(f.bs, ax[2])}
+	o := r3.Sub(r3.Sub(p.Saddle.Origin, f.m), f.cc) // saddle point − c0, centred
+	p.u0, p.v0 = r3.Dot(f.as, o), r3.Dot(f.bs, o)
+	return p, nil
 }
 
 // Corners returns the four corners in the order given.
@@ -233,8 +244,9 @@ func (p *BilinearPatch) UV(x r3.Vec) (u, v float64) {
 // Project projects p onto the saddle and reports whether the foot lies on
 // the patch (see BilinearPatch). It does not allocate.
 func (p *BilinearPatch) Project(x r3.Vec) Projection {
-	pr := p.Saddle.Project(x)
-	u, v := p.UV(pr.Foot)
+	pr, f := p.Saddle.project(x)
+	u := p.uL.X*f.X + p.uL.Y*f.Y + p.uL.Z*f.Z + p.u0
+	v := p.vL.X*f.X + p.vL.Y*f.Y + p.vL.Z*f.Z + p.v0
 	pr.Inside = p.contains(u, v)
 	return pr
 }
