@@ -132,8 +132,6 @@ func newCSV(src io.Reader, path string, opt Options) (*csvReader, error) {
 		r.unit = Metre
 	}
 	r.info = Info{Path: path, Format: "csv", Count: -1, Unit: r.unit}
-	var first []byte // first data line: header or data
-	var firstNo int64
 	for len(r.pending) < sampleLines {
 		line, err := r.dataLine()
 		if err == io.EOF {
@@ -142,12 +140,9 @@ func newCSV(src io.Reader, path string, opt Options) (*csvReader, error) {
 		if err != nil {
 			return nil, err
 		}
-		if first == nil {
-			first, firstNo = bytes.Clone(line), r.lineNo
-		}
 		r.pending = append(r.pending, sampled{r.lineNo, bytes.Clone(line)})
 	}
-	if first == nil {
+	if len(r.pending) == 0 {
 		return nil, &ParseError{Path: path, Line: int(max(1, r.lineNo)), Err: errors.New("no data lines (the file is empty or only comments)")}
 	}
 	lines := make([][]byte, len(r.pending))
@@ -161,6 +156,7 @@ func newCSV(src io.Reader, path string, opt Options) (*csvReader, error) {
 		r.info.Facts = append(r.info.Facts, Fact{"decimal mark", "point or comma"})
 	}
 
+	first, firstNo := r.pending[0].text, r.pending[0].line // header or data
 	names := r.splitStrings(first)
 	isHeader := true
 	for _, s := range names {
