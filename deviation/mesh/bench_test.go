@@ -16,14 +16,16 @@ import (
 var benchSaddle = testSaddle{Alpha: 1.0 / 144, Beta: 1.0 / 81, X0: 3, X1: 33, Y0: -9, Y1: 21,
 	Offset: r3.Vec{X: 500000, Y: 5400000, Z: 100}}
 
-const benchCells = 316
+var benchCells = 316
 
-var benchOnce = sync.OnceValues(func() ([]r3.Vec, [][3]int32) {
+var benchOnce = sync.OnceValues(benchMesh)
+
+func benchMesh() ([]r3.Vec, [][3]int32) {
 	s := &benchSaddle
 	var v []r3.Vec
 	for i := 0; i <= benchCells; i++ {
 		for j := 0; j <= benchCells; j++ {
-			v = append(v, s.Param(float64(i)/benchCells, float64(j)/benchCells))
+			v = append(v, s.Param(float64(i)/float64(benchCells), float64(j)/float64(benchCells)))
 		}
 	}
 	id := func(i, j int) int32 { return int32(i*(benchCells+1) + j) }
@@ -34,7 +36,7 @@ var benchOnce = sync.OnceValues(func() ([]r3.Vec, [][3]int32) {
 		}
 	}
 	return v, f
-})
+}
 
 // benchPoints are queries like a scan: uniform over the patch, moved
 // along the normal by Gaussian noise of σ = 2 mm (Box–Muller), 12 % by

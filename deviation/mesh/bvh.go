@@ -46,8 +46,10 @@ type buildTri struct {
 	lo, hi, c r3.Vec
 }
 
-// buildHierarchy orders the triangles for the hierarchy and fills m.tri,
-// m.vid and m.nodes.
+// buildHierarchy orders the triangles for the hierarchy and fills
+// m.vert, m.vid and m.nodes. Vertices are renumbered in order of first
+// use by the ordered triangles, so a leaf's corners are mostly adjacent
+// in memory.
 func (m *Mesh) buildHierarchy(local []r3.Vec, tris [][3]int32) {
 	bt := make([]buildTri, len(tris))
 	ext := 0.0
@@ -68,12 +70,20 @@ func (m *Mesh) buildHierarchy(local []r3.Vec, tris [][3]int32) {
 	b.nodes = make([]node, 2, 2*len(tris)/3+2)
 	b.split(0, 0, int32(len(tris)), 0)
 	m.nodes = b.nodes
-	m.tri = make([]triangle, len(tris))
 	m.vid = make([][3]int32, len(tris))
+	renum := make([]int32, len(local))
+	for i := range renum {
+		renum[i] = -1
+	}
+	m.vert = make([]r3.Vec, 0, len(tris)/2+3)
 	for j, i := range idx {
-		f := tris[i]
-		m.vid[j] = f
-		m.tri[j] = triangle{local[f[0]], local[f[1]], local[f[2]]}
+		for k, v := range tris[i] {
+			if renum[v] < 0 {
+				renum[v] = int32(len(m.vert))
+				m.vert = append(m.vert, local[v])
+			}
+			m.vid[j][k] = renum[v]
+		}
 	}
 }
 
@@ -312,8 +322,9 @@ type hit struct {
 
 // better orders candidates by distance, then by triangle index, so that
 // the answer does not depend on the visiting order.
-func (h *hit) consider(q r3.Vec, t int32, tr *triangle) {
-	c, f := closestOnTriangle(q, tr.a, tr.b, tr.c)
+func (h *hit) consider(q r3.Vec, t int32, m *Mesh) {
+	f3 := &m.vid[t]
+	c, f := closestOnTriangle(q, m.vert[f3[0]], m.vert[f3[1]], m.vert[f3[2]])
 	d2 := dist2(q, c)
 	if d2 < h.d2 || d2 == h.d2 && t < h.tri {
 		*h = hit{d2, c, t, f}
@@ -337,7 +348,7 @@ func (m *Mesh) nearest(q r3.Vec) hit {
 		nd := &m.nodes[n]
 		if nd.count > 0 {
 			for t := nd.first; t < nd.first+nd.count; t++ {
-				best.consider(q, t, &m.tri[t])
+				best.consider(q, t, m)
 			}
 		} else {
 			l, r := nd.first, nd.first+1
@@ -370,8 +381,8 @@ func (m *Mesh) nearest(q r3.Vec) hit {
 // nearestBrute scans every triangle (the test reference for nearest).
 func (m *Mesh) nearestBrute(q r3.Vec) hit {
 	best := hit{d2: math.Inf(1), tri: noTriangle, feat: noFeature}
-	for t := range m.tri {
-		best.consider(q, int32(t), &m.tri[t])
+	for t := range m.vid {
+		best.consider(q, int32(t), m)
 	}
 	return best
 }

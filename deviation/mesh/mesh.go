@@ -62,13 +62,13 @@ type Mesh struct {
 	centre r3.Vec
 	margin float64
 	// Per triangle, in hierarchy leaf order.
-	tri []triangle // vertices relative to centre
 	vid [][3]int32 // vertex indices
 	// ring[3t+k] is the next half-edge around the undirected edge of
 	// half-edge k of triangle t (from vertex k to vertex k+1); a boundary
 	// half-edge points to itself.
 	ring []int32
 	// Per vertex.
+	vert   []r3.Vec // relative to centre, in order of first use
 	vnorm  []r3.Vec // unit angle-weighted pseudonormal
 	vbound []bool   // on a boundary edge
 	nodes  []node
@@ -76,11 +76,8 @@ type Mesh struct {
 	max    r3.Vec
 }
 
-// triangle holds the three corners relative to the mesh centre.
-type triangle struct{ a, b, c r3.Vec }
-
 // Triangles returns the number of triangles.
-func (m *Mesh) Triangles() int { return len(m.tri) }
+func (m *Mesh) Triangles() int { return len(m.vid) }
 
 // Bounds returns the site bounding box of the mesh.
 func (m *Mesh) Bounds() (min, max r3.Vec) { return m.min, m.max }
@@ -90,7 +87,7 @@ func (m *Mesh) Centre() r3.Vec { return m.centre }
 
 // SizeBytes returns the memory held by the mesh's slices.
 func (m *Mesh) SizeBytes() int {
-	return len(m.tri)*72 + len(m.vid)*12 + len(m.ring)*4 +
+	return len(m.vert)*24 + len(m.vid)*12 + len(m.ring)*4 +
 		len(m.vnorm)*24 + len(m.vbound) + len(m.nodes)*32
 }
 
@@ -147,12 +144,12 @@ func New(vertices []r3.Vec, tris [][3]int32, opt Options) (*Mesh, *Report, error
 	m := &Mesh{centre: centre, margin: opt.MarginM, min: lo, max: hi}
 	m.buildHierarchy(local, kept)
 	m.ring = buildRing(m.vid)
-	m.vertexNormals(len(local))
+	m.vertexNormals()
 
-	rep.Triangles = len(m.tri)
-	rep.Vertices = countUsed(len(local), m.vid)
+	rep.Triangles = len(m.vid)
+	rep.Vertices = len(m.vert)
 	rep.Min, rep.Max, rep.Centre = lo, hi, centre
-	rep.BytesPerTriangle = float64(m.SizeBytes()) / float64(len(m.tri))
+	rep.BytesPerTriangle = float64(m.SizeBytes()) / float64(len(m.vid))
 	rep.note("%d triangles, %d vertices, %d component(s) (%d closed)", rep.Triangles, rep.Vertices, rep.Components, rep.ClosedComponents)
 	rep.note("bounding box (%.3f, %.3f, %.3f)–(%.3f, %.3f, %.3f) m", lo.X, lo.Y, lo.Z, hi.X, hi.Y, hi.Z)
 	if rep.BoundaryEdges > 0 {
@@ -183,20 +180,6 @@ func minVec(a, b r3.Vec) r3.Vec {
 
 func maxVec(a, b r3.Vec) r3.Vec {
 	return r3.Vec{X: max(a.X, b.X), Y: max(a.Y, b.Y), Z: max(a.Z, b.Z)}
-}
-
-func countUsed(nv int, vid [][3]int32) int {
-	used := make([]bool, nv)
-	n := 0
-	for _, f := range vid {
-		for _, i := range f {
-			if !used[i] {
-				used[i] = true
-				n++
-			}
-		}
-	}
-	return n
 }
 
 // keepValid returns the triangles that are neither degenerate nor a
@@ -409,12 +392,12 @@ func orient(local []r3.Vec, tris [][3]int32, up bool, rep *Report) error {
 // vertexNormals computes the angle-weighted pseudonormal of every vertex
 // (Bærentzen & Aanæs 2005, eq. 2: Σ αᵢ nᵢ over the incident faces, αᵢ the
 // face's interior angle at the vertex) and marks boundary vertices.
-func (m *Mesh) vertexNormals(nv int) {
-	m.vnorm = make([]r3.Vec, nv)
-	m.vbound = make([]bool, nv)
-	for t, tr := range m.tri {
-		n := r3.Unit(r3.Cross(r3.Sub(tr.b, tr.a), r3.Sub(tr.c, tr.a)))
-		p := [3]r3.Vec{tr.a, tr.b, tr.c}
+func (m *Mesh) vertexNormals() {
+	m.vnorm = make([]r3.Vec, len(m.vert))
+	m.vbound = make([]bool, len(m.vert))
+	for t := range m.vid {
+		p := m.corners(int32(t))
+		n := m.faceNormal(int32(t))
 		for k := range 3 {
 			e1 := r3.Sub(p[(k+1)%3], p[k])
 			e2 := r3.Sub(p[(k+2)%3], p[k])
@@ -432,4 +415,16 @@ func (m *Mesh) vertexNormals(nv int) {
 			m.vnorm[i] = r3.Scale(1/l, v)
 		}
 	}
+}
+
+// corners returns the corners of triangle t relative to the centre.
+func (m *Mesh) corners(t int32) [3]r3.Vec {
+	f := &m.vid[t]
+	return [3]r3.Vec{m.vert[f[0]], m.vert[f[1]], m.vert[f[2]]}
+}
+
+// faceNormal returns the unit normal of triangle t (right-hand rule).
+func (m *Mesh) faceNormal(t int32) r3.Vec {
+	p := m.corners(t)
+	return r3.Unit(r3.Cross(r3.Sub(p[1], p[0]), r3.Sub(p[2], p[0])))
 }

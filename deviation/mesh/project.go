@@ -41,8 +41,7 @@ func (m *Mesh) projection(q r3.Vec, h hit) deviation.Projection {
 		return deviation.Projection{D: nan, Foot: v, Normal: v}
 	}
 	t := h.tri
-	tr := &m.tri[t]
-	nf := r3.Unit(r3.Cross(r3.Sub(tr.b, tr.a), r3.Sub(tr.c, tr.a)))
+	nf := m.faceNormal(t)
 	diff := r3.Sub(q, h.foot)
 	dist := math.Sqrt(h.d2)
 	var pn r3.Vec
@@ -58,8 +57,7 @@ func (m *Mesh) projection(q r3.Vec, h hit) deviation.Projection {
 		} else {
 			pn = nf
 			for o := m.ring[he]; o != he; o = m.ring[o] {
-				u := &m.tri[o/3]
-				pn = r3.Add(pn, r3.Unit(r3.Cross(r3.Sub(u.b, u.a), r3.Sub(u.c, u.a))))
+				pn = r3.Add(pn, m.faceNormal(o/3))
 			}
 		}
 	default:
