@@ -113,3 +113,31 @@ func TestFitSaddleErrors(t *testing.T) {
 		})
 	}
 }
+
+// TestIRLSWeights checks the Huber and Tukey biweight functions at known
+// points (Huber 1981: w = 1 for |u| ≤ k, k/|u| beyond; Tukey: (1 − (u/c)²)²
+// inside c, 0 outside), with the residuals scaled so that the robust scale
+// 1.4826·median|d| is 1.
+func TestIRLSWeights(t *testing.T) {
+	// median|d| = 1/1.4826 makes σ = 1; the probe residuals follow.
+	m := 1 / madScale
+	d := []float64{m, -m, m, 0.5, 2, -3, 5}
+	tests := []struct {
+		kind string
+		want []float64
+	}{
+		{"huber", []float64{1, 1, 1, 1, HuberK / 2, HuberK / 3, HuberK / 5}},
+		{"tukey", []float64{sq(1 - sq(m/TukeyC)), sq(1 - sq(m/TukeyC)), sq(1 - sq(m/TukeyC)), sq(1 - sq(0.5/TukeyC)), sq(1 - sq(2/TukeyC)), sq(1 - sq(3/TukeyC)), 0}},
+	}
+	for _, tc := range tests {
+		w := make([]float64, len(d))
+		irlsWeights(w, d, tc.kind)
+		for i := range w {
+			if math.Abs(w[i]-tc.want[i]) > 1e-12 {
+				t.Errorf("%s weight of %v: got %v, want %v", tc.kind, d[i], w[i], tc.want[i])
+			}
+		}
+	}
+}
+
+func sq(x float64) float64 { return x * x }
