@@ -205,11 +205,17 @@ var _ Surface = (*BilinearPatch)(nil)
 
 // NewBilinearPatch returns the patch of the corners c (in order around the
 // edge), its positive side towards up, with containment margin marginM
-// metres (≥ 0). It returns ErrCoplanar for coplanar corners: build a
-// PlanePatch then.
+// metres (≥ 0). It returns ErrCoplanar for coplanar corners (build a
+// PlanePatch then) and ErrCornerOrder when the corners, seen along up,
+// are not in order around the edge.
 func NewBilinearPatch(c [4]r3.Vec, up r3.Vec, marginM float64) (*BilinearPatch, error) {
 	if err := checkMargin(marginM); err != nil {
 		return nil, err
+	}
+	if r3.Norm(up) > 0 {
+		if err := checkOrder(c, up); err != nil {
+			return nil, err
+		}
 	}
 	f, err := newBilinearFrame(c, up)
 	if err != nil {

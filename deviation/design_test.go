@@ -123,6 +123,7 @@ func TestParseDesignErrors(t *testing.T) {
 		{"share above one", head + okPatch + "tolerance:\n  source: x\n  limit_mm: 5\n  min_share: 95\n", []string{"t.yaml:9:", "(0, 1]"}},
 		{"alias", "units: &u m\nnormal: up\n" + okPatch + tol, []string{"t.yaml:1:", "aliases"}},
 		{"negative margin", head + "margin_m: -1\n" + okPatch + tol, []string{"t.yaml:3:", ">= 0"}},
+		{"bow tie", head + "patches:\n  - id: A\n    corners: [[0, 0, 0], [1, 1, 1], [1, 0, 0], [0, 1, 0]]\n" + tol, []string{"t.yaml:5:", "not in order around the edge"}},
 		{"origin on corners patch", head + "patches:\n  - id: A\n    origin: [0, 0, 0]\n    corners: [[0, 0, 0], [1, 0, 0], [1, 1, 1], [0, 1, 0]]\n" + tol, []string{"t.yaml:5:", "mesh patches"}},
 	}
 	for _, tt := range tests {

@@ -77,6 +77,65 @@ func (q *quad) bilinear2(u, v float64) (x, y float64) {
 // area).
 var ErrExtent = errors.New("patch extent has no area")
 
+// ErrCornerOrder reports corners that are not in order around the edge:
+// two opposite edges of their quadrilateral cross (a "bow tie").
+var ErrCornerOrder = errors.New("corners are not in order around the edge")
+
+// crossing reports whether two opposite edges of q cross (0–1 with 2–3,
+// or 1–2 with 3–0), by the orientation test of computational geometry
+// (segments ab and cd cross when c, d lie on opposite sides of ab and a, b
+// on opposite sides of cd; touching counts as crossing).
+func (q *quad) crossing() bool {
+	orient := func(a, b, c [2]float64) float64 {
+		return (b[0]-a[0])*(c[1]-a[1]) - (b[1]-a[1])*(c[0]-a[0])
+	}
+	cross := func(a, b, c, d [2]float64) bool {
+		d1, d2 := orient(a, b, c), orient(a, b, d)
+		d3, d4 := orient(c, d, a), orient(c, d, b)
+		return d1*d2 <= 0 && d3*d4 <= 0 && !(d1 == 0 && d2 == 0)
+	}
+	return cross(q[0], q[1], q[2], q[3]) || cross(q[1], q[2], q[3], q[0])
+}
+
+// planQuad projects the corners on the plane perpendicular to up.
+func planQuad(c [4]r3.Vec, up r3.Vec) quad {
+	n := r3.Unit(up)
+	e1 := r3.Cross(n, r3.Vec{X: 1})
+	if r3.Norm(e1) < 0.5 {
+		e1 = r3.Cross(n, r3.Vec{Y: 1})
+	}
+	e1 = r3.Unit(e1)
+	e2 := r3.Cross(n, e1)
+	var q quad
+	for i, p := range c {
+		w := r3.Sub(p, c[0])
+		q[i] = [2]float64{r3.Dot(w, e1), r3.Dot(w, e2)}
+	}
+	return q
+}
+
+// checkOrder returns ErrCornerOrder when the corners, seen along up, form
+// a self-crossing quadrilateral. Patches steeper than 60° are not checked
+// (their plan view may fold over without any error in the order); the
+// slope is that of the largest of the four corner triangles, which does
+// not depend on the order of the corners.
+func checkOrder(c [4]r3.Vec, up r3.Vec) error {
+	var n r3.Vec
+	for _, t := range [4][3]int{{0, 1, 2}, {0, 1, 3}, {0, 2, 3}, {1, 2, 3}} {
+		m := r3.Cross(r3.Sub(c[t[1]], c[t[0]]), r3.Sub(c[t[2]], c[t[0]]))
+		if r3.Norm(m) > r3.Norm(n) {
+			n = m
+		}
+	}
+	if nn := r3.Norm(n); nn > 0 && math.Abs(r3.Dot(n, up)) < 0.5*nn*r3.Norm(up) {
+		return nil
+	}
+	if q := planQuad(c, up); q.crossing() {
+		return fmt.Errorf("%w: in plan, edges c1–c2 and c3–c4 or c2–c3 and c4–c1 cross", ErrCornerOrder)
+	}
+	return nil
+}
+
 // checkMargin validates a containment margin.
 func checkMargin(m float64) error {
 	if !(m >= 0) || math.IsInf(m, 0) {
@@ -113,6 +172,9 @@ func NewSaddlePatch(s Saddle, c [4]r3.Vec, marginM float64) (*SaddlePatch, error
 	for i, ci := range c {
 		q := s.ToLocal(ci)
 		p.extent[i] = [2]float64{q.X, q.Y}
+	}
+	if p.extent.crossing() {
+		return nil, fmt.Errorf("saddle patch: %w: in the local x–y plane two opposite edges cross", ErrCornerOrder)
 	}
 	if a := p.extent.area(); !(math.Abs(a) > 0) {
 		return nil, fmt.Errorf("saddle patch: %w", ErrExtent)

@@ -38,6 +38,32 @@ func TestQuadContains(t *testing.T) {
 	}
 }
 
+func TestCornerOrder(t *testing.T) {
+	// The unit square with its corners in edge order, and with two
+	// swapped (a bow tie: edges c1–c2 and c3–c4 cross).
+	good := [4]r3.Vec{{}, {X: 10}, {X: 10, Y: 10, Z: 2}, {Y: 10}}
+	bow := [4]r3.Vec{{}, {X: 10, Y: 10, Z: 2}, {X: 10}, {Y: 10}}
+	flatBow := [4]r3.Vec{{}, {X: 10, Y: 10}, {X: 10}, {Y: 10}}
+	if _, err := NewBilinearPatch(good, up, 0); err != nil {
+		t.Errorf("good order: %v", err)
+	}
+	if _, err := NewBilinearPatch(bow, up, 0); !errors.Is(err, ErrCornerOrder) {
+		t.Errorf("bow tie: got %v, want ErrCornerOrder", err)
+	}
+	if _, err := NewPlanePatch(flatBow, up, 0); !errors.Is(err, ErrCornerOrder) {
+		t.Errorf("flat bow tie: got %v, want ErrCornerOrder", err)
+	}
+	s := Saddle{K1: 0.01, K2: -0.01, Axes: [3]r3.Vec{{X: 1}, {Y: 1}, {Z: 1}}}
+	if _, err := NewSaddlePatch(s, flatBow, 0); !errors.Is(err, ErrCornerOrder) {
+		t.Errorf("saddle bow tie: got %v, want ErrCornerOrder", err)
+	}
+	// A steep patch (a twisted wall) is not checked in plan.
+	wall := [4]r3.Vec{{}, {X: 10}, {X: 10, Z: 10, Y: 2}, {Z: 10}}
+	if _, err := NewBilinearPatch(wall, r3.Vec{Y: -1}, 0); err != nil {
+		t.Errorf("wall: %v", err)
+	}
+}
+
 func TestPlanePatch(t *testing.T) {
 	// Plane z = 0.1x + 0.2y + 5 at site offsets; unit normal
 	// (−0.1, −0.2, 1)/√1.05 (analytic).

@@ -46,6 +46,9 @@ func NewPlanePatch(c [4]r3.Vec, up r3.Vec, marginM float64) (*PlanePatch, error)
 	for i := range c {
 		w[i] = r3.Sub(c[i], m)
 	}
+	if err := checkOrder(c, up); err != nil {
+		return nil, fmt.Errorf("plane patch: %w", err)
+	}
 	n := r3.Cross(r3.Sub(w[2], w[0]), r3.Sub(w[3], w[1]))
 	if r3.Norm(n) == 0 {
 		return nil, fmt.Errorf("plane patch: %w", ErrExtent)
