@@ -300,11 +300,11 @@ func TestMatch(t *testing.T) {
 }
 
 // BenchmarkLASRead reads synthetic files of 2^20 records in point formats
-// 0, 3 and 6 (20, 34 and 30 MiB) from disk (page cache); MB/s is bytes of
+// 0, 1, 2, 3 and 6 (20–34 MiB) from disk (page cache); MB/s is bytes of
 // file per wall-clock second, MB/cpu-s per second of process CPU time
 // (steadier on a shared machine).
 func BenchmarkLASRead(b *testing.B) {
-	for _, f := range []uint8{0, 3, 6} {
+	for _, f := range []uint8{0, 1, 2, 3, 6} {
 		b.Run("format"+string(rune('0'+f)), func(b *testing.B) {
 			minor := uint8(2)
 			if f >= 6 {
