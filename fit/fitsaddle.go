@@ -109,7 +109,8 @@ var (
 // Steps:
 //  1. Centre the points on a local origin (their centroid).
 //  2. Start: s.Start if given (the design pose); otherwise RANSAC on the
-//     general quadric (QuadricModel) and NearestSaddle of the winner.
+//     general quadric (QuadricModel, hypotheses restricted to the saddle
+//     family by SaddleFamily) and NearestSaddle of the winner.
 //  3. Robust inlier selection by the distance to the current saddle, then
 //     up to five rounds of: Levenberg–Marquardt on the inliers (on a random
 //     CoarseSample of them until the inlier set settles, then on all),
@@ -177,7 +178,7 @@ func FitSaddle(pts []r3.Vec, s *SaddleSettings) (*SaddleResult, error) {
 		cur = *set.Start
 		cur.Origin = r3.Sub(cur.Origin, local)
 	} else {
-		model := QuadricModel{Centre: r3.Vec{}, Scale: 1}
+		model := QuadricModel{Centre: r3.Vec{}, Scale: 1, Accept: SaddleFamily}
 		_, model.Scale = normalisation(loc)
 		rr, err := RANSAC[Quadric](model, loc, &RANSACSettings{
 			Threshold: set.Threshold, ThresholdFactor: set.ThresholdFactor, Confidence: set.Confidence,

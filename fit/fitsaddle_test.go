@@ -3,6 +3,7 @@ package fit
 import (
 	"errors"
 	"math"
+	"math/rand/v2"
 	"strings"
 	"testing"
 
@@ -141,3 +142,31 @@ func TestIRLSWeights(t *testing.T) {
 }
 
 func sq(x float64) float64 { return x * x }
+
+// TestFitSaddleGround: 40 % of the points are a ground plane 6 m below the
+// saddle point and wider than the patch, 10 % more are outliers 5–50 cm
+// off; the quadric start must still find the saddle (truth: the analytic
+// surface), not the plane.
+func TestFitSaddleGround(t *testing.T) {
+	truth := synthSaddle()
+	pts, _ := synthPoints(&truth, workloadOptions(10000, 0.1, 0, 5))
+	rng := rand.New(rand.NewPCG(3, 4))
+	ground := make([]bool, len(pts))
+	for i := 0; i < 4000; i++ {
+		x, y := -5+45*rng.Float64(), -15+45*rng.Float64()
+		p := truth.ToSite(r3.Vec{X: x, Y: y})
+		p.Z = truth.Origin.Z - 6 + 0.01*rng.NormFloat64()
+		pts[i] = p
+		ground[i] = true
+	}
+	res, err := FitSaddle(pts, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i, g := range ground {
+		if g && res.Inliers[i] {
+			t.Fatalf("ground point %d taken as an inlier", i)
+		}
+	}
+	saddleClose(t, &res.Saddle, &truth, 1e-3, 1e-3, 0.001, workloadPatch)
+}

@@ -444,9 +444,21 @@ func parallelDistances[H any](m SampleModel[H], dst []float64, h H, pts []r3.Vec
 type QuadricModel struct {
 	Centre r3.Vec
 	Scale  float64
+	// Accept, if not nil, rejects hypotheses (from samples and refits)
+	// for which it returns false: a degeneracy test such as "is in the
+	// saddle family", which keeps a large plane of outliers (the ground, a
+	// wall) from winning the consensus with a plane-pair quadric.
+	Accept func(*Quadric) bool
 }
 
 var _ SampleModel[Quadric] = QuadricModel{}
+
+// SaddleFamily reports whether q looks like a hyperbolic paraboloid or its
+// limit, a parabolic cylinder: the QuadricModel.Accept test FitSaddle uses.
+func SaddleFamily(q *Quadric) bool {
+	k := Classify(q).Kind
+	return k == KindHyperbolicParaboloid || k == KindParabolicCylinder
+}
 
 // NewQuadricModel returns a QuadricModel normalised for pts.
 func NewQuadricModel(pts []r3.Vec) QuadricModel {
@@ -460,7 +472,7 @@ func (QuadricModel) SampleSize() int { return 9 }
 // FitSample fits the quadric through 9 points.
 func (m QuadricModel) FitSample(sample []r3.Vec) (Quadric, bool) {
 	q, err := fitQuadricNorm(sample, m.Centre, m.Scale)
-	return q, err == nil
+	return q, err == nil && (m.Accept == nil || m.Accept(&q))
 }
 
 // Refit fits the Taubin quadric to pts, accumulating in parallel blocks.
@@ -485,7 +497,7 @@ func (m QuadricModel) Refit(pts []r3.Vec) (Quadric, bool) {
 	if err := accs[0].solve(&q.C); err != nil {
 		return Quadric{}, false
 	}
-	return q, true
+	return q, m.Accept == nil || m.Accept(&q)
 }
 
 // Distances writes Sampson distances.
