@@ -587,7 +587,7 @@ func (p *parser) patch(n *yaml.Node, key string, d *Design) (Patch, error) {
 			return pt, p.errAt(m["corners"].Line, m["corners"].Column, key+".corners", fmt.Errorf("%w: %v", ErrValue, err))
 		}
 		pt.Kind, pt.Surface = "saddle", sp
-		pt.boxLo, pt.boxHi, pt.hasBox = sp.bounds()
+		pt.setBox(sp.bounds())
 		return pt, nil
 	}
 	bp, err := NewBilinearPatch(pt.Corners, p.up, margin)
@@ -596,7 +596,7 @@ func (p *parser) patch(n *yaml.Node, key string, d *Design) (Patch, error) {
 		pt.Kind, pt.Surface = "corners", bp
 		pt.Notes = append(pt.Notes, fmt.Sprintf("saddle z = %.6g x² %+.6g y² (1/m), saddle point (%.3f, %.3f, %.3f) m",
 			bp.Saddle.K1, bp.Saddle.K2, bp.Saddle.Origin.X, bp.Saddle.Origin.Y, bp.Saddle.Origin.Z))
-		pt.boxLo, pt.boxHi, pt.hasBox = bp.bounds()
+		pt.setBox(bp.bounds())
 		return pt, nil
 	case errors.Is(err, ErrCoplanar):
 		pp, perr := NewPlanePatch(pt.Corners, p.up, margin)
@@ -605,7 +605,7 @@ func (p *parser) patch(n *yaml.Node, key string, d *Design) (Patch, error) {
 		}
 		pt.Kind, pt.Surface = "plane", pp
 		pt.Warnings = append(pt.Warnings, fmt.Sprintf("corners are coplanar (max %.3g mm off their plane): measured against a plane, not a saddle", pp.Flatness()*1000))
-		pt.boxLo, pt.boxHi, pt.hasBox = pp.bounds()
+		pt.setBox(pp.bounds())
 		return pt, nil
 	default:
 		return pt, p.errNode(m["corners"], key+".corners", "%v", err)
@@ -707,13 +707,10 @@ func (p *parser) meshPatch(m map[string]*yaml.Node, key string, pt Patch, d *Des
 	}
 	pt.Kind, pt.Surface = "mesh", lm.Surface
 	// A mesh's closest points lie on its triangles, hence in its vertex
-	// bounding box: a safe box for Classify (padded by 1 µm for rounding).
+	// bounding box: a safe box for Classify.
 	if b, ok := lm.Surface.(interface{ Bounds() (min, max r3.Vec) }); ok {
 		lo, hi := b.Bounds()
-		pad := r3.Vec{X: 1e-6, Y: 1e-6, Z: 1e-6}
-		if v := lo.X + lo.Y + lo.Z + hi.X + hi.Y + hi.Z; !math.IsNaN(v) && !math.IsInf(v, 0) && lo.X <= hi.X && lo.Y <= hi.Y && lo.Z <= hi.Z {
-			pt.boxLo, pt.boxHi, pt.hasBox = r3.Sub(lo, pad), r3.Add(hi, pad), true
-		}
+		pt.setBox(lo, hi, true)
 	}
 	pt.Notes = append(pt.Notes, lm.Notes...)
 	pt.Warnings = append(pt.Warnings, lm.Warnings...)
@@ -793,6 +790,19 @@ func (d *Design) Classify(x r3.Vec) (patch int, pr Projection, st Status) {
 	}
 	pr.D -= d.OffsetM
 	return patch, pr, StatusUsed
+}
+
+// setBox records a bounding box for Classify, padded by 1 µm so that the
+// rounding of computed feet (of order 1e-10 m at site magnitudes) cannot
+// put one outside it; a non-finite or inverted box is not recorded.
+func (p *Patch) setBox(lo, hi r3.Vec, ok bool) {
+	v := lo.X + lo.Y + lo.Z + hi.X + hi.Y + hi.Z
+	if !ok || math.IsNaN(v) || math.IsInf(v, 0) || lo.X > hi.X || lo.Y > hi.Y || lo.Z > hi.Z {
+		p.hasBox = false
+		return
+	}
+	pad := r3.Vec{X: 1e-6, Y: 1e-6, Z: 1e-6}
+	p.boxLo, p.boxHi, p.hasBox = r3.Sub(lo, pad), r3.Add(hi, pad), true
 }
 
 // boxDist2 is the squared distance from x to the box [lo, hi].
