@@ -51,12 +51,24 @@ type Header struct {
 	// GeoKeys summarises a GeoTIFF GeoKeyDirectory (record ID 34735) as
 	// text, one "name(id)=value" per key, separated by "; ".
 	GeoKeys string
+	// ExtraBytes describes the extra bytes of each record as declared by
+	// an Extra Bytes VLR (LASF_Spec record 4), if any.
+	ExtraBytes []ExtraByte
 	// Warnings lists damage the reader worked around (a broken EVLR
 	// region).
 	Warnings []string
 	// LinearUnit is the EPSG code of ProjLinearUnitsGeoKey (9001 metre,
 	// 9002 foot, 9003 US survey foot), or 0 if not given.
 	LinearUnit int
+}
+
+// ExtraByte is one descriptor of an Extra Bytes VLR (LAS 1.4 R15, "Extra
+// Bytes" record: 192 bytes each; layout from memory).
+type ExtraByte struct {
+	Name        string
+	Description string
+	DataType    uint8 // 0 undocumented bytes (length in Options), 1–10 uchar … double, 11–30 arrays (deprecated)
+	Options     uint8 // bit field; for DataType 0 the number of bytes
 }
 
 // VLR is a variable length record (or extended VLR) header.
@@ -77,8 +89,9 @@ var recordSize = [...]uint16{20, 28, 26, 34, 57, 63, 30, 36, 38, 59, 67}
 func hasTime(f uint8) bool { return f != 0 && f != 2 }
 
 const (
-	vlrHeaderSize  = 54 // LAS 1.4 R15 table 4
-	evlrHeaderSize = 60 // LAS 1.4 R15 table 6
+	vlrHeaderSize  = 54  // LAS 1.4 R15 table 4
+	extraByteSize  = 192 // one Extra Bytes descriptor
+	evlrHeaderSize = 60  // LAS 1.4 R15 table 6
 	minHeaderSize  = 227
 )
 
@@ -308,6 +321,17 @@ func (h *Header) useVLR(r io.ReaderAt, v VLR) error {
 	switch {
 	case v.UserID == "laszip encoded" && v.RecordID == 22204:
 		return errLAZ(v.Offset)
+	case v.UserID == "LASF_Spec" && v.RecordID == 4:
+		p, err := payload(r, v)
+		if err != nil {
+			return err
+		}
+		for o := 0; o+extraByteSize <= len(p); o += extraByteSize {
+			d := p[o : o+extraByteSize]
+			h.ExtraBytes = append(h.ExtraBytes, ExtraByte{
+				DataType: d[2], Options: d[3], Name: cstr(d[4:36]), Description: cstr(d[160:192]),
+			})
+		}
 	case v.RecordID == 2112 && (v.UserID == "LASF_Projection" || v.UserID == "liblas"):
 		if h.WKT != "" && v.UserID == "liblas" {
 			return nil // the official record wins

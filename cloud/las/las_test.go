@@ -504,3 +504,33 @@ func TestBadEVLR(t *testing.T) {
 		t.Errorf("read %d points, want 1000", len(res.P))
 	}
 }
+
+// TestExtraBytes checks the Extra Bytes VLR of extrabytes.las against
+// PROVENANCE.md: five descriptors Colors (type 23, options 0), Reserved
+// (0, 7), Flags (12, 0), Intensity (5, 0, description "Brightness"), Time
+// (7, 0); the record's 27 extra bytes are skipped.
+func TestExtraBytes(t *testing.T) {
+	r, err := Open(refFile(t, "extrabytes.las"), cloud.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer r.Close()
+	want := []ExtraByte{
+		{Name: "Colors", DataType: 23}, {Name: "Reserved", DataType: 0, Options: 7}, {Name: "Flags", DataType: 12},
+		{Name: "Intensity", DataType: 5, Description: "Brightness"}, {Name: "Time", DataType: 7},
+	}
+	got := r.Header().ExtraBytes
+	if len(got) != len(want) {
+		t.Fatalf("got %d descriptors %+v, want %d", len(got), got, len(want))
+	}
+	for i := range want {
+		g := got[i]
+		if g.Name != want[i].Name || g.DataType != want[i].DataType || g.Options != want[i].Options ||
+			(want[i].Description != "" && g.Description != want[i].Description) {
+			t.Errorf("descriptor %d: got %+v, want %+v", i+1, g, want[i])
+		}
+	}
+	if f := fact(r.Info(), "extra bytes"); !strings.HasPrefix(f, "Colors (type 23, options 0)") {
+		t.Errorf("extra bytes fact %q", f)
+	}
+}

@@ -365,6 +365,17 @@ func (r *Reader) makeInfo(opt cloud.Options) cloud.Info {
 	if len(vl) > 0 {
 		add("records", "%s", strings.Join(vl, "; "))
 	}
+	if len(h.ExtraBytes) > 0 {
+		var eb []string
+		for _, e := range h.ExtraBytes {
+			d := fmt.Sprintf("%s (type %d, options %d)", e.Name, e.DataType, e.Options)
+			if e.Description != "" {
+				d += fmt.Sprintf(" %q", e.Description)
+			}
+			eb = append(eb, d)
+		}
+		add("extra bytes", "%s", strings.Join(eb, "; "))
+	}
 	if h.WKT != "" {
 		add("CRS WKT", "%s", h.WKT)
 	}
