@@ -4,6 +4,7 @@ import (
 	"crypto/sha256"
 	"encoding/hex"
 	"errors"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"os"
@@ -280,6 +281,40 @@ func TestClassify(t *testing.T) {
 	}
 	if n := testing.AllocsPerRun(100, func() { d.Classify(r3.Vec{X: 1005, Y: 1985, Z: 9}) }); n != 0 {
 		t.Errorf("Classify allocates %v times", n)
+	}
+}
+
+func TestClassifyConcurrent(t *testing.T) {
+	// Classify is documented safe for concurrent use: four goroutines must
+	// reproduce the serial results (run with -race to check for writes).
+	d, err := LoadDesign(filepath.Join("testdata", "design_canopy.yaml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	rng := rand.New(rand.NewPCG(61, 62))
+	pts := make([]r3.Vec, 2000)
+	want := make([]float64, len(pts))
+	for i := range pts {
+		pts[i] = r3.Vec{X: 995 + 35*rng.Float64(), Y: 1975 + 40*rng.Float64(), Z: 8 + 5*rng.Float64()}
+		_, pr, _ := d.Classify(pts[i])
+		want[i] = pr.D
+	}
+	errs := make(chan string, 4)
+	for g := 0; g < 4; g++ {
+		go func() {
+			for i, p := range pts {
+				if _, pr, _ := d.Classify(p); pr.D != want[i] {
+					errs <- fmt.Sprintf("point %d: %g, serial %g", i, pr.D, want[i])
+					return
+				}
+			}
+			errs <- ""
+		}()
+	}
+	for g := 0; g < 4; g++ {
+		if e := <-errs; e != "" {
+			t.Error(e)
+		}
 	}
 }
 
