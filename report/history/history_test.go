@@ -246,3 +246,30 @@ func TestNiceCeil(t *testing.T) {
 		}
 	}
 }
+
+// TestAggregate checks the display-cell merge of a large map: 200 × 300
+// cores at 0.25 m are merged k = ceil(sqrt(60000/50000)) = 2 to a side into
+// 0.5 m cells (100 × 150 = 15000), and a cell keeps its largest
+// significant change.
+func TestAggregate(t *testing.T) {
+	var cores []change.Core
+	for j := 0; j < 300; j++ {
+		for i := 0; i < 200; i++ {
+			c := change.Core{P: r3.Vec{X: 0.125 + 0.25*float64(i), Y: 0.125 + 0.25*float64(j)}, Status: change.NotDetected}
+			if i == 1 && j == 1 {
+				c.Status, c.Distance = change.Significant, -0.004
+			}
+			cores = append(cores, c)
+		}
+	}
+	out, cell := aggregate(cores, 0.25)
+	if cell != 0.5 || len(out) != 15000 {
+		t.Fatalf("aggregate: %d cells of %g m, want 15000 of 0.5 m", len(out), cell)
+	}
+	if out[0].Status != change.Significant || out[0].Distance != -0.004 {
+		t.Errorf("first display cell: %+v, want the significant core", out[0])
+	}
+	if !strings.Contains(mapNote(len(cores), 0.25), "0.50 m display cells") {
+		t.Errorf("map note: %q", mapNote(len(cores), 0.25))
+	}
+}

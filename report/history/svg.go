@@ -42,12 +42,63 @@ func spanMM(cores []change.Core) float64 {
 	return niceCeil(math.Max(m, 1))
 }
 
+// maxMapCells caps the squares drawn on a map (about 4 MB of SVG); beyond
+// it cores are merged into coarser display cells (see aggregate).
+const maxMapCells = 50000
+
+// aggregate merges cores into display cells of k×k core spacings so that
+// at most maxMapCells remain, keeping per cell the most telling core: the
+// significant one with the largest |Distance|, else a not-detected one,
+// else a too-few one. It returns the cores to draw and the display cell
+// size (spacing when nothing was merged).
+func aggregate(cores []change.Core, spacing float64) ([]change.Core, float64) {
+	if len(cores) <= maxMapCells {
+		return cores, spacing
+	}
+	k := math.Ceil(math.Sqrt(float64(len(cores)) / maxMapCells))
+	cell := k * spacing
+	rank := func(c *change.Core) float64 {
+		switch c.Status {
+		case change.Significant:
+			return 2 + math.Abs(c.Distance)
+		case change.NotDetected:
+			return 1
+		}
+		return 0
+	}
+	type key struct{ i, j int64 }
+	best := map[key]int{}
+	var order []key
+	for n := range cores {
+		c := &cores[n]
+		kk := key{int64(math.Floor(c.P.X / cell)), int64(math.Floor(c.P.Y / cell))}
+		m, ok := best[kk]
+		if !ok {
+			order = append(order, kk)
+			best[kk] = n
+			continue
+		}
+		if rank(c) > rank(&cores[m]) {
+			best[kk] = n
+		}
+	}
+	out := make([]change.Core, 0, len(order))
+	for _, kk := range order {
+		c := cores[best[kk]]
+		c.P.X, c.P.Y = (float64(kk.i)+0.5)*cell, (float64(kk.j)+0.5)*cell
+		out = append(out, c)
+	}
+	return out, cell
+}
+
 // changeMapSVG draws the core points in plan view (x east to the right,
-// y north up), one square of the core spacing each.
+// y north up), one square of the core spacing each (or of the display cell
+// when there are more than maxMapCells cores).
 func changeMapSVG(cores []change.Core, spacing, span float64) template.HTML {
 	if len(cores) == 0 {
 		return ""
 	}
+	cores, spacing = aggregate(cores, spacing)
 	minX, minY := math.Inf(1), math.Inf(1)
 	maxX, maxY := math.Inf(-1), math.Inf(-1)
 	for _, c := range cores {

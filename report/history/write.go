@@ -138,7 +138,7 @@ func comparisonView(c *Comparison) *view {
 			c.Summary.Cores, num(s.CoreSpacing, 3), c.Summary.Significant, c.Summary.NotDetected, c.Summary.TooFewPoints),
 		Method: fmt.Sprintf("M3C2 (Lague, Brodu & Leroux 2013): projection cylinder radius %s m, half-length %s m, %s position along the normal, at least %d points per epoch; LoD95 = 1.96·(√(σ₁²/n₁ + σ₂²/n₂) + reg) with reg = %s mm (the registration errors of both epochs combined in quadrature).",
 			num(s.Radius, 3), num(s.HalfLength, 3), map[bool]string{false: "mean", true: "median"}[s.Median], s.MinPoints, num(s.Registration*1e3, 2)),
-		NormalSource: c.NormalSource,
+		NormalSource: c.NormalSource + mapNote(len(c.Cores), s.CoreSpacing),
 		SpanMM:       trim(span),
 		MinPoints:    s.MinPoints,
 		Map:          changeMapSVG(c.Cores, s.CoreSpacing, span),
@@ -183,6 +183,15 @@ func comparisonView(c *Comparison) *view {
 		v.NoParams = "neither epoch has stored fitted parameters (run `saddlecheck archive recheck` on both)."
 	}
 	return v
+}
+
+// mapNote says when the map merges cores into coarser display cells.
+func mapNote(n int, spacing float64) string {
+	if n <= maxMapCells {
+		return ""
+	}
+	k := math.Ceil(math.Sqrt(float64(n) / maxMapCells))
+	return fmt.Sprintf(". The map merges the %d core points into %s m display cells, each showing its largest significant change (cores.csv has every core point)", n, num(k*spacing, 2))
 }
 
 // trendLine describes a fitted rate in words.
