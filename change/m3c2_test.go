@@ -286,3 +286,25 @@ func TestSettingsResolved(t *testing.T) {
 	}
 	near(t, "combined registration", CombineRegistration(0.003, 0.004), 0.005, tolExact)
 }
+
+// TestGridPatchFilter checks that Grid keeps only nodes whose foot lies
+// inside the patch, places them at the foot and takes the patch normal.
+func TestGridPatchFilter(t *testing.T) {
+	rng := rand.New(rand.NewPCG(19, 20))
+	a := planeEpoch(rng, 4000, 10, r3.Vec{}, ex, ey, ez, 0, 0.001)
+	half := func(p r3.Vec) (r3.Vec, r3.Vec, bool) {
+		return r3.Vec{X: p.X, Y: p.Y, Z: 0.5}, ez, p.X < 5
+	}
+	cores, err := Grid(nil, half, 7, a, nil, &Settings{CoreSpacing: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(cores) != 50 {
+		t.Fatalf("cores: got %d, want 50 (5 × 10 cells with x < 5)", len(cores))
+	}
+	for _, c := range cores {
+		if c.P.X >= 5 || c.P.Z != 0.5 || c.Patch != 7 {
+			t.Fatalf("core %+v: want x < 5, z on the surface 0.5, patch 7", c)
+		}
+	}
+}
