@@ -44,6 +44,9 @@ func Open(path string, opt Options) (Reader, error) {
 	if n == 0 {
 		return nil, &FormatError{Path: path, Msg: "empty file", Err: ErrUnknownFormat}
 	}
+	if bytes.HasPrefix(head, []byte{0xff, 0xfe}) || bytes.HasPrefix(head, []byte{0xfe, 0xff}) {
+		return nil, &FormatError{Path: path, Msg: "UTF-16 text (byte-order mark " + fmt.Sprintf("% x", head[:2]) + "): export or save the file as UTF-8", Err: ErrUnknownFormat}
+	}
 	if off := binaryOffset(head, n == sniffLen); off >= 0 {
 		names := []string{}
 		for _, fm := range formats {

@@ -418,6 +418,7 @@ func TestOpenSniff(t *testing.T) {
 		{"png", png, "", []string{"in.csv: byte offset 0", "unknown file format"}},
 		{"nul inside", []byte("e,n,z\n1,2,3\n\x00\x01\x02"), "", []string{"in.csv: byte offset 12", "unknown file format"}},
 		{"empty", nil, "", []string{"in.csv: byte offset 0", "empty file"}},
+		{"utf-16", []byte("\xff\xfei\x00d\x00,\x00"), "", []string{"in.csv: byte offset 0", "UTF-16", "UTF-8"}},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
