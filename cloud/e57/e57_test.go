@@ -2,6 +2,7 @@ package e57
 
 import (
 	"bytes"
+	"encoding/json"
 	"errors"
 	"io"
 	"math"
@@ -490,5 +491,68 @@ func TestRegistered(t *testing.T) {
 	defer r.Close()
 	if _, ok := r.(*Reader); !ok || r.Info().Format != "e57" || r.Info().Count != 30571 {
 		t.Errorf("cloud.Open gave %T %q count %d", r, r.Info().Format, r.Info().Count)
+	}
+}
+
+// TestReferenceReader compares the count and sampled points (first,
+// middle, last; exact doubles) with those decoded by the general-purpose
+// E57 converter web-e57 from npm, run under Node.js by
+// testdata/webe57_ref.mjs (version in testdata/webe57_ref.json). That
+// reader also refuses bad-crc.e57.
+func TestReferenceReader(t *testing.T) {
+	raw, err := os.ReadFile(filepath.Join("testdata", "webe57_ref.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var ref struct {
+		Source, Version string
+		Files           map[string]struct {
+			Error  string
+			Count  int
+			Points []struct {
+				Record  int
+				X, Y, Z float64
+				RGB     []float64
+			}
+		}
+	}
+	if err := json.Unmarshal(raw, &ref); err != nil {
+		t.Fatal(err)
+	}
+	if f := ref.Files["bad-crc.e57"]; f.Error == "" {
+		t.Errorf("the reference decoded bad-crc.e57")
+	}
+	compared := 0
+	for name, f := range ref.Files {
+		if f.Error != "" {
+			continue
+		}
+		compared++
+		t.Run(name, func(t *testing.T) {
+			r, err := Open(refFile(t, name), cloud.Options{})
+			if err != nil {
+				t.Fatal(err)
+			}
+			defer r.Close()
+			d := readAll(t, r, 0)
+			if len(d.P) != f.Count {
+				t.Fatalf("count: got %d, want %d", len(d.P), f.Count)
+			}
+			for _, p := range f.Points {
+				i := p.Record - 1
+				if want := (r3.Vec{X: p.X, Y: p.Y, Z: p.Z}); d.P[i] != want {
+					t.Errorf("record %d: got %v, want %v (%s %s)", p.Record, d.P[i], want, ref.Source, ref.Version)
+				}
+				if p.RGB != nil {
+					got := []float64{d.Attr[AttrRed][i], d.Attr[AttrGreen][i], d.Attr[AttrBlue][i]}
+					if !equal(got, p.RGB) {
+						t.Errorf("record %d colour: got %v, want %v", p.Record, got, p.RGB)
+					}
+				}
+			}
+		})
+	}
+	if compared != 3 {
+		t.Errorf("%d files compared, want 3", compared)
 	}
 }
