@@ -10,6 +10,7 @@ import (
 	"os"
 	"strconv"
 	"strings"
+	"unicode/utf8"
 
 	"gonum.org/v1/gonum/spatial/r3"
 )
@@ -141,6 +142,12 @@ func newCSV(src io.Reader, path string, opt Options) (*csvReader, error) {
 			return nil, err
 		}
 		r.pending = append(r.pending, sampled{r.lineNo, bytes.Clone(line)})
+	}
+	for _, s := range r.pending {
+		if !utf8.Valid(s.text) {
+			r.info.Warnings = append(r.info.Warnings, fmt.Sprintf("line %d is not UTF-8 (a legacy code page such as Latin-1?): ids and codes are kept byte for byte; export as UTF-8 for reports", s.line))
+			break
+		}
 	}
 	if len(r.pending) == 0 {
 		return nil, &ParseError{Path: path, Line: int(max(1, r.lineNo)), Err: errors.New("no data lines (the file is empty or only comments)")}

@@ -61,6 +61,7 @@ func TestCSVColumns(t *testing.T) {
 		{name: "blank runs", text: "pt   e            n          z     code\nP1   500123.456   5000123.789   101.234   SRF\n", id: "P1", code: "SRF"},
 		{name: "BOM CRLF comments blank lines", text: "\xef\xbb\xbf# exported shots\r\n\r\nid,e,n,z,code\r\n# setup 1\r\nP1,500123.456,5000123.789,101.234,SRF\r\n\r\n", id: "P1", code: "SRF"},
 		{name: "quoted code with comma", text: "id,e,n,z,code\n\"P1\",500123.456,5000123.789,101.234,\"kerb, \"\"top\"\"\"\n", id: "P1", code: `kerb, "top"`},
+		{name: "latin-1 code", text: "id,e,n,z,code\nP1,500123.456,5000123.789,101.234,B\xf6schung\n", id: "P1", code: "B\xf6schung", warn: "not UTF-8"},
 		{name: "trailing delimiter", text: "id,e,n,z,code\nP1,500123.456,5000123.789,101.234,SRF,\n", id: "P1", code: "SRF"},
 		{name: "unquoted code with comma", text: "id,e,n,z,code\nP1,500123.456,5000123.789,101.234,kerb, top\n", id: "P1", code: "kerb, top"},
 		{name: "quoted field with delimiter before coordinates", text: "code;id;e;n;z\n\"a;b\";P1;500123,456;5000123,789;101,234\n", id: "P1", code: "a;b"},

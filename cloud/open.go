@@ -8,7 +8,6 @@ import (
 	"math"
 	"os"
 	"strings"
-	"unicode/utf8"
 
 	"gonum.org/v1/gonum/spatial/r3"
 )
@@ -47,7 +46,7 @@ func Open(path string, opt Options) (Reader, error) {
 	if bytes.HasPrefix(head, []byte{0xff, 0xfe}) || bytes.HasPrefix(head, []byte{0xfe, 0xff}) {
 		return nil, &FormatError{Path: path, Msg: "UTF-16 text (byte-order mark " + fmt.Sprintf("% x", head[:2]) + "): export or save the file as UTF-8", Err: ErrUnknownFormat}
 	}
-	if off := binaryOffset(head, n == sniffLen); off >= 0 {
+	if off := binaryOffset(head); off >= 0 {
 		names := []string{}
 		for _, fm := range formats {
 			names = append(names, fm.Name)
@@ -61,27 +60,14 @@ func Open(path string, opt Options) (Reader, error) {
 }
 
 // binaryOffset returns the offset of the first byte that text does not
-// hold (NUL, a control character other than tab/CR/LF/FF, invalid UTF-8),
-// or -1. When cut is set, head ends mid-file and an incomplete UTF-8
-// sequence at its end is allowed.
-func binaryOffset(head []byte, cut bool) int {
-	for i := 0; i < len(head); {
-		c := head[i]
-		if c < utf8.RuneSelf {
-			if c < 0x20 && c != '\t' && c != '\n' && c != '\r' && c != '\f' || c == 0x7f {
-				return i
-			}
-			i++
-			continue
-		}
-		r, size := utf8.DecodeRune(head[i:])
-		if r == utf8.RuneError && size <= 1 {
-			if cut && !utf8.FullRune(head[i:]) {
-				return -1
-			}
+// hold (NUL or another control character than tab, CR, LF, FF), or -1.
+// Bytes of 0x80 and above pass: besides UTF-8 they may be text in a legacy
+// code page (Latin-1 codes in a total-station export).
+func binaryOffset(head []byte) int {
+	for i, c := range head {
+		if c < 0x20 && c != '\t' && c != '\n' && c != '\r' && c != '\f' || c == 0x7f {
 			return i
 		}
-		i += size
 	}
 	return -1
 }

@@ -415,7 +415,8 @@ func TestOpenSniff(t *testing.T) {
 		{"ply crlf magic", []byte("ply\r\nformat ascii 1.0\r\nelement vertex 1\r\nproperty float x\r\nproperty float y\r\nproperty float z\r\nend_header\r\n1 2 3\r\n"), "ply-ascii", nil},
 		{"text", []byte("e,n,z\n1,2,3\n"), "csv", nil},
 		{"utf-8 codes", []byte("id,e,n,z,code\nP1,1,2,3,Böschung\n"), "csv", nil},
-		{"png", png, "", []string{"in.csv: byte offset 0", "unknown file format"}},
+		{"latin-1 codes", []byte("id,e,n,z,code\nP1,1,2,3,B\xf6schung\n"), "csv", nil},
+		{"png", png, "", []string{"in.csv: byte offset 6", "unknown file format"}}, // 0x1a after the PNG signature's CR LF
 		{"nul inside", []byte("e,n,z\n1,2,3\n\x00\x01\x02"), "", []string{"in.csv: byte offset 12", "unknown file format"}},
 		{"empty", nil, "", []string{"in.csv: byte offset 0", "empty file"}},
 		{"utf-16", []byte("\xff\xfei\x00d\x00,\x00"), "", []string{"in.csv: byte offset 0", "UTF-16", "UTF-8"}},
