@@ -18,7 +18,9 @@
 // With a semicolon or tab separator a comma inside a number is its decimal
 // mark (12,345). Lines whose first non-blank byte is # and blank lines are
 // skipped; a UTF-8 byte-order mark and CRLF line ends are accepted; a
-// field in double quotes may hold the separator ("" is one quote).
+// field in double quotes may hold the separator ("" is one quote). Text in
+// a legacy code page (Latin-1 codes) is read byte for byte with a warning;
+// UTF-16 is refused with a request for UTF-8.
 //
 // A first line without any number is a header. Its names are matched
 // case-insensitively, ignoring a trailing unit such as "(m)":
