@@ -55,25 +55,27 @@ func NewAcc(t Tolerance) *Acc {
 	}
 }
 
-// Add adds one deviation (metres). It does not allocate.
+// Add adds one deviation (metres; finite). It does not allocate. The
+// limit and band tests use the sign bit of (edge − |d|), which is set
+// exactly when |d| > edge, so a value on an edge counts as within it and
+// the per-point work has no data-dependent branch.
 func (a *Acc) Add(devM float64) {
 	a.n++
 	delta := devM - a.mean
 	a.mean += delta / float64(a.n)
 	a.m2 += delta * (devM - a.mean)
 	a.sumSq += devM * devM
-	a.min = math.Min(a.min, devM)
-	a.max = math.Max(a.max, devM)
-	ad := math.Abs(devM)
-	if ad <= a.limit {
-		a.within++
+	if devM < a.min {
+		a.min = devM
 	}
-	k := len(a.bandEdges)
-	for i, b := range a.bandEdges {
-		if ad <= b {
-			k = i
-			break
-		}
+	if devM > a.max {
+		a.max = devM
+	}
+	ad := math.Abs(devM)
+	a.within += 1 - int64(math.Float64bits(a.limit-ad)>>63)
+	k := 0
+	for _, b := range a.bandEdges {
+		k += int(math.Float64bits(b-ad) >> 63)
 	}
 	a.bands[k]++
 	switch {

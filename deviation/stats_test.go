@@ -180,10 +180,17 @@ func TestGrid(t *testing.T) {
 	}
 }
 
+// BenchmarkAccAdd adds survey-like deviations (normal, σ = 6 mm).
 func BenchmarkAccAdd(b *testing.B) {
+	rng := rand.New(rand.NewPCG(71, 72))
+	devs := make([]float64, 1<<12)
+	for i := range devs {
+		devs[i] = 0.006 * rng.NormFloat64()
+	}
 	a := NewAcc(statsTol)
 	b.ReportAllocs()
+	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
-		a.Add(float64(i%1000) * 1e-5)
+		a.Add(devs[i&(len(devs)-1)])
 	}
 }
