@@ -276,6 +276,7 @@ type Grid struct {
 	X0, Y0, CellM float64
 	NX, NY        int
 	cells         []GridCell
+	inv           float64 // 1/CellM
 }
 
 // MaxGridCells bounds the size of a Grid (4 Mi cells, 128 MiB).
@@ -313,7 +314,7 @@ func NewGrid(lo, hi r3.Vec, cellM float64) (*Grid, error) {
 	if !(nx >= 1 && ny >= 1) || nx*ny > MaxGridCells {
 		return nil, fmt.Errorf("grid of %g × %g cells of %g m: empty or more than %d cells", nx, ny, cellM, MaxGridCells)
 	}
-	g := &Grid{X0: lo.X, Y0: lo.Y, CellM: cellM, NX: int(nx), NY: int(ny)}
+	g := &Grid{X0: lo.X, Y0: lo.Y, CellM: cellM, NX: int(nx), NY: int(ny), inv: 1 / cellM}
 	g.cells = make([]GridCell, g.NX*g.NY)
 	for i := range g.cells {
 		g.cells[i] = GridCell{Min: math.Inf(1), Max: math.Inf(-1)}
@@ -324,16 +325,20 @@ func NewGrid(lo, hi r3.Vec, cellM float64) (*Grid, error) {
 // Add adds the deviation devM of the point p to its cell; it reports false
 // (and does nothing) for a point outside the grid. It does not allocate.
 func (g *Grid) Add(p r3.Vec, devM float64) bool {
-	fi := math.Floor((p.X - g.X0) / g.CellM)
-	fj := math.Floor((p.Y - g.Y0) / g.CellM)
+	fi := math.Floor((p.X - g.X0) * g.inv)
+	fj := math.Floor((p.Y - g.Y0) * g.inv)
 	if !(fi >= 0 && fi < float64(g.NX) && fj >= 0 && fj < float64(g.NY)) {
 		return false
 	}
 	c := &g.cells[int(fj)*g.NX+int(fi)]
 	c.N++
 	c.Sum += devM
-	c.Min = math.Min(c.Min, devM)
-	c.Max = math.Max(c.Max, devM)
+	if devM < c.Min {
+		c.Min = devM
+	}
+	if devM > c.Max {
+		c.Max = devM
+	}
 	return true
 }
 
