@@ -152,17 +152,18 @@ func (a *Acc) RMS() float64 {
 	return math.Sqrt(a.sumSq / float64(a.n))
 }
 
-// Min and Max return the extreme deviations (±Inf when empty).
+// Min returns the smallest deviation (+Inf when empty).
 func (a *Acc) Min() float64 { return a.min }
 
-// Max returns the largest deviation.
+// Max returns the largest deviation (−Inf when empty).
 func (a *Acc) Max() float64 { return a.max }
 
 // Within returns the number of deviations with |d| <= the limit.
 func (a *Acc) Within() int64 { return a.within }
 
 // BandCounts returns the counts per band (len(bands)+1 entries, the last
-// beyond the last band). The slice is a.'s own; do not modify it.
+// beyond the last band). The slice is the accumulator's own; do not
+// modify it.
 func (a *Acc) BandCounts() []int64 { return a.bands }
 
 // Percentile returns the p-th percentile (0 ≤ p ≤ 100) of the deviations
