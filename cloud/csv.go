@@ -257,9 +257,10 @@ func (r *csvReader) setColumns(names []string, fromHeader bool, line int) error 
 }
 
 // guessXYZ handles a headerless file without --columns: only plain XYZ
-// (three numeric columns, optionally followed by numeric attributes) is
-// accepted, because the order of id, northing and easting in a
-// total-station file cannot be guessed safely.
+// (three numeric columns, optionally followed by numeric attributes, with
+// a column 1 that is not all whole numbers) is accepted, because the order
+// of id, northing and easting in a total-station file cannot be guessed
+// safely.
 func (r *csvReader) guessXYZ() error {
 	first := r.pending[0]
 	ask := func(why string) error {
@@ -267,9 +268,8 @@ func (r *csvReader) guessXYZ() error {
 			Err: fmt.Errorf("%w: no header line and no --columns, and %s; pass --columns with the file's order, e.g. --columns id,n,e,z,code or --columns id,e,n,z,code", ErrMissingColumn, why)}
 	}
 	ncols := -1
-	var prev float64
-	idLike := true
-	for k, s := range r.pending {
+	idLike := true // column 1 holds whole numbers only
+	for _, s := range r.pending {
 		r.buf = append(r.buf[:0], s.text...)
 		r.fields = split(r.fields, r.buf, r.delim)
 		if ncols < 0 {
@@ -284,16 +284,15 @@ func (r *csvReader) guessXYZ() error {
 			if !ok {
 				return ask("column " + strconv.Itoa(j+1) + " is not numeric, so the file is not plain x,y,z")
 			}
-			if j == 0 {
-				if v != math.Trunc(v) || (k > 0 && v <= prev) {
-					idLike = false
-				}
-				prev = v
+			if j == 0 && v != math.Trunc(v) {
+				idLike = false
 			}
 		}
 	}
-	if ncols > 3 && idLike && len(r.pending) > 1 {
-		return ask("column 1 holds increasing integers, which look like point ids")
+	if ncols > 3 && idLike {
+		// A numbered shot file (id, then three coordinates in an unknown
+		// order) must not be read as x, y, z plus an attribute.
+		return ask("column 1 holds whole numbers only, which look like point ids")
 	}
 	names := []string{"x", "y", "z"}
 	for j := 4; j <= ncols; j++ {

@@ -341,6 +341,8 @@ func TestCSVErrors(t *testing.T) {
 			[]string{"bad.csv:3:", "--columns", "id,n,e,z,code"}},
 		{"headerless numeric ids", "1,5000123.789,500123.456,101.234\n2,5000124.789,500124.456,101.234\n", nil, ErrMissingColumn,
 			[]string{"bad.csv:1:", "point ids", "--columns"}},
+		{"headerless numeric ids out of order", "# shots\n17,5000123.789,500123.456,101.234,7\n3,5000124.789,500124.456,101.234,7\n", nil, ErrMissingColumn,
+			[]string{"bad.csv:2:", "point ids", "--columns"}},
 		{"header without z", "id,e,n,code\nP1,1,2,SRF\n", nil, ErrMissingColumn,
 			[]string{"bad.csv:1:", "no z column", "--columns"}},
 		{"header without coordinates", "a,b,c\nd,e,f\n", nil, ErrMissingColumn,

@@ -37,7 +37,7 @@
 // attributes (Chunk.Attr). A headerless file needs Options.Columns (such as
 // id,n,e,z,code; "-" skips a column), because the order of northing and
 // easting cannot be guessed, except a file of only numbers whose first
-// column is not a run of increasing integers (point ids): that is plain
+// column is not all whole numbers (point ids): that is plain
 // XYZ, x,y,z followed by attributes named col4, col5, …
 //
 // A row that cannot be read is kept with its reason in Chunk.Reject: a
