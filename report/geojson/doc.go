@@ -9,9 +9,11 @@
 // metres of the site grid, in that order (RFC 7946 §3.1.1 puts the
 // easting-like longitude first). RFC 7946 §4 requires WGS 84 longitude and
 // latitude; this package does no coordinate transformation, so the output
-// is a local-grid GeoJSON and says so in the collection's "properties"
-// foreign member (RFC 7946 §6.1), under "crs". Do not overlay it on web
-// maps without transforming it first.
+// is a local-grid GeoJSON and says so in the collection's "metadata"
+// foreign member (RFC 7946 §6.1), under "crs", together with the units and
+// the mode (points or cells). RFC 7946 §7.1 forbids a "properties" member
+// on a FeatureCollection, hence the name. Do not overlay the output on web
+// maps without transforming it first; no EPSG transformation is done.
 //
 // Polygons: rings are closed (first position repeated last) and oriented
 // by the right-hand rule of RFC 7946 §3.1.6: exterior rings
@@ -26,5 +28,6 @@
 // References:
 //   - RFC 7946, The GeoJSON Format (2016): §3.1 geometry, §3.1.6 polygon
 //     ring orientation, §3.2 Feature, §3.3 FeatureCollection, §4 CRS, §6.1
-//     foreign members, §11.2 coordinate precision.
+//     foreign members, §7.1 members a FeatureCollection must not have,
+//     §11.2 coordinate precision.
 package geojson

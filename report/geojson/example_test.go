@@ -33,7 +33,7 @@ func ExampleCreate() {
 	b, _ := os.ReadFile(path)
 	fmt.Print(string(b))
 	// Output:
-	// {"type":"FeatureCollection","properties":{"crs":"coordinates are local site-grid easting/northing in metres, not WGS 84 as RFC 7946 requires; do not overlay on web maps without transformation","units":"m","deviation_units":"mm","positions":"[easting, northing, elevation]","mode":"points","points":1,"rejected":0},"features":[
+	// {"type":"FeatureCollection","metadata":{"crs":"coordinates are local site-grid easting/northing in metres, not WGS 84 as RFC 7946 requires; do not overlay on web maps without transformation","units":"m","deviation_units":"mm","positions":"[easting, northing, elevation]","mode":"points","points":1,"rejected":0},"features":[
 	// {"type":"Feature","geometry":{"type":"Polygon","coordinates":[[[512000,5400000,0],[512010,5400000,0],[512000,5400010,0],[512000,5400000,0]]]},"properties":{"kind":"patch","patch":"NE"}},
 	// {"type":"Feature","id":"P1","geometry":{"type":"Point","coordinates":[512000.5,5400000.25,101]},"properties":{"kind":"point","id":"P1","deviation_mm":3.5,"band":"±5","patch":"NE","status":"used"}}
 	// ]}

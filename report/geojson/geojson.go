@@ -23,8 +23,8 @@ const DefaultMaxPoints = 200000
 // buffered points when the writer switches to cells and Options.CellM is 0.
 const DefaultCells = 20000
 
-// Caveat is the text written under "crs" when the site grid's CRS is not
-// known.
+// Caveat is the text written under metadata.crs when the site grid's CRS
+// is not known.
 const Caveat = "coordinates are local site-grid easting/northing in metres, not WGS 84 as RFC 7946 requires; do not overlay on web maps without transformation"
 
 // Options controls a Writer. The zero value gives the documented defaults.
@@ -261,7 +261,9 @@ func (w *Writer) Close() error {
 	}
 	w.closed = true
 	b := w.buf[:0]
-	b = append(b, `{"type":"FeatureCollection","properties":{`...)
+	// RFC 7946 §7.1 forbids a "properties" member on a FeatureCollection,
+	// so the collection's facts go in the foreign member "metadata" (§6.1).
+	b = append(b, `{"type":"FeatureCollection","metadata":{`...)
 	if w.opt.Name != "" {
 		b = append(b, `"name":`...)
 		b = appendString(b, w.opt.Name)

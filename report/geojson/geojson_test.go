@@ -15,7 +15,8 @@ import (
 // fc is the part of RFC 7946 §3.3 the tests read back.
 type fc struct {
 	Type       string         `json:"type"`
-	Properties map[string]any `json:"properties"`
+	Metadata   map[string]any `json:"metadata"`
+	Properties any            `json:"properties"` // must be absent (RFC 7946 §7.1)
 	Features   []struct {
 		Type     string          `json:"type"`
 		ID       any             `json:"id"`
@@ -39,8 +40,8 @@ func readBack(t *testing.T, path string) fc {
 	if err := json.Unmarshal(data, &c); err != nil {
 		t.Fatalf("output is not JSON: %v", err)
 	}
-	if c.Type != "FeatureCollection" {
-		t.Fatalf("type %q, want FeatureCollection", c.Type)
+	if c.Type != "FeatureCollection" || c.Properties != nil {
+		t.Fatalf("type %q, properties %v: want a FeatureCollection without properties", c.Type, c.Properties)
 	}
 	return c
 }
@@ -116,11 +117,11 @@ func TestPoints(t *testing.T) {
 		t.Fatal(err)
 	}
 	c := readBack(t, path)
-	if got := c.Properties["crs"]; got != Caveat {
+	if got := c.Metadata["crs"]; got != Caveat {
 		t.Errorf("crs caveat: got %v", got)
 	}
-	if c.Properties["points"] != 2.0 || c.Properties["rejected"] != 1.0 || c.Properties["mode"] != "points" || c.Properties["name"] != "epoch 1" {
-		t.Errorf("collection properties: %v", c.Properties)
+	if c.Metadata["points"] != 2.0 || c.Metadata["rejected"] != 1.0 || c.Metadata["mode"] != "points" || c.Metadata["name"] != "epoch 1" {
+		t.Errorf("collection metadata: %v", c.Metadata)
 	}
 	if len(c.Features) != 4 {
 		t.Fatalf("%d features, want 2 patches + 2 points", len(c.Features))
@@ -186,10 +187,10 @@ func TestCells(t *testing.T) {
 		t.Fatal(err)
 	}
 	c := readBack(t, path)
-	if c.Properties["mode"] != "cells" || c.Properties["cell_m"] != 10.0 || c.Properties["points"] != 10000.0 {
-		t.Fatalf("collection properties: %v", c.Properties)
+	if c.Metadata["mode"] != "cells" || c.Metadata["cell_m"] != 10.0 || c.Metadata["points"] != 10000.0 {
+		t.Fatalf("collection metadata: %v", c.Metadata)
 	}
-	if crs, _ := c.Properties["crs"].(string); !strings.Contains(crs, "EPSG:32633") || !strings.Contains(crs, "not WGS 84") {
+	if crs, _ := c.Metadata["crs"].(string); !strings.Contains(crs, "EPSG:32633") || !strings.Contains(crs, "not WGS 84") {
 		t.Errorf("crs: %q", crs)
 	}
 	if len(c.Features) != 100 {

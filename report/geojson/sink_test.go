@@ -38,8 +38,8 @@ func TestSink(t *testing.T) {
 		t.Fatal(err)
 	}
 	got := readBack(t, path)
-	if len(got.Features) != 3 || got.Properties["rejected"] != 1.0 {
-		t.Fatalf("%d features, properties %v", len(got.Features), got.Properties)
+	if len(got.Features) != 3 || got.Metadata["rejected"] != 1.0 {
+		t.Fatalf("%d features, metadata %v", len(got.Features), got.Metadata)
 	}
 	want := []struct {
 		id, patch, band, status string
