@@ -256,3 +256,64 @@ func ExampleSaddleFromCorners() {
 	// saddle point (0.000, 0.000, 0.000)
 	// x axis at 45.0° to the first edge
 }
+
+func TestSaddleFromCornersEigen(t *testing.T) {
+	// Independent route to the principal frame: invert M = [A B D] with
+	// gonum/mat, form the quadratic part S = ½(a*b*ᵀ + b*a*ᵀ) of the
+	// quadric (a*·Y)(b*·Y) − d*·Y = 0 from its rows, and diagonalise S with
+	// mat.EigenSym (a symmetric QL/QR eigen-solver). The closed-form frame
+	// must match: the eigenvector of the zero eigenvalue along Axes[2], the
+	// others along Axes[0] and Axes[1], and K1/K2 the eigenvalue ratio.
+	rng := rand.New(rand.NewPCG(81, 82))
+	for k := 0; k < 10; k++ {
+		c := randomCorners(rng, r3.Vec{X: 3e5, Y: 6e6, Z: 40})
+		s, err := SaddleFromCorners(c, up)
+		if err != nil {
+			t.Fatal(err)
+		}
+		a := r3.Sub(c[1], c[0])
+		b := r3.Sub(c[3], c[0])
+		d := r3.Add(r3.Sub(c[0], c[1]), r3.Sub(c[2], c[3]))
+		m := mat.NewDense(3, 3, []float64{a.X, b.X, d.X, a.Y, b.Y, d.Y, a.Z, b.Z, d.Z})
+		var inv mat.Dense
+		if err := inv.Inverse(m); err != nil {
+			t.Fatal(err)
+		}
+		as := mat.Row(nil, 0, &inv)
+		bs := mat.Row(nil, 1, &inv)
+		sym := mat.NewSymDense(3, nil)
+		for i := 0; i < 3; i++ {
+			for j := i; j < 3; j++ {
+				sym.SetSym(i, j, 0.5*(as[i]*bs[j]+bs[i]*as[j]))
+			}
+		}
+		var eig mat.EigenSym
+		if !eig.Factorize(sym, true) {
+			t.Fatal("eigen-decomposition failed")
+		}
+		vals := eig.Values(nil) // ascending: λ−, 0, λ+
+		var vecs mat.Dense
+		eig.VectorsTo(&vecs)
+		col := func(j int) r3.Vec { return r3.Vec{X: vecs.At(0, j), Y: vecs.At(1, j), Z: vecs.At(2, j)} }
+		scale := math.Max(math.Abs(vals[0]), math.Abs(vals[2]))
+		if math.Abs(vals[1]) > 1e-12*scale || vals[0] >= 0 || vals[2] <= 0 {
+			t.Fatalf("eigenvalues %v: want one negative, one zero, one positive", vals)
+		}
+		// The quadric's overall sign is arbitrary (Q and −Q), so the
+		// positive coefficient K1 belongs to λ+ or to λ−: Axes[0] is along
+		// one of them, Axes[1] along the other, Axes[2] along the null one.
+		order := [3]int{2, 0, 1}
+		want := vals[2] / vals[0]
+		if math.Abs(r3.Dot(s.Axes[0], col(2))) < 0.5 {
+			order, want = [3]int{0, 2, 1}, vals[0]/vals[2]
+		}
+		if got := s.K1 / s.K2; math.Abs(got-want) > 1e-9*math.Abs(want) {
+			t.Errorf("patch %d: K1/K2 = %g, eigenvalue ratio %g", k, got, want)
+		}
+		for i, j := range order {
+			if dot := math.Abs(r3.Dot(s.Axes[i], col(j))); math.Abs(dot-1) > 1e-9 {
+				t.Errorf("patch %d: axis %d · eigenvector = %g, want ±1", k, i, dot)
+			}
+		}
+	}
+}
