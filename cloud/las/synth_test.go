@@ -101,8 +101,9 @@ func synthPoints(n int) []synthPoint {
 func TestFormats(t *testing.T) {
 	pts := synthPoints(257)
 	for f := uint8(0); f <= 10; f++ {
-		for _, extra := range []int{0, 5} {
-			minor := uint8(2)
+		for k, extra := range []int{0, 5, 1} {
+			// LAS 1.2 (227-byte header), 1.3 (235) and 1.4 (375) headers.
+			minor := uint8(2 + k)
 			if f >= 6 {
 				minor = 4
 			}
@@ -110,6 +111,9 @@ func TestFormats(t *testing.T) {
 			r, err := NewReader(bytes.NewReader(data), int64(len(data)), cloud.Options{})
 			if err != nil {
 				t.Fatalf("format %d: %v", f, err)
+			}
+			if want := [...]uint16{227, 235, 375}[minor-2]; r.Header().HeaderSize != want || fact(r.Info(), "version") != "1."+string(rune('0'+minor)) {
+				t.Fatalf("format %d LAS 1.%d: header size %d, version %q", f, minor, r.Header().HeaderSize, fact(r.Info(), "version"))
 			}
 			res := readAll(t, r, 100)
 			if len(res.P) != len(pts) || res.Chunks != 3 {
