@@ -1,7 +1,9 @@
 package cloud
 
 import (
+	"bytes"
 	"errors"
+	"fmt"
 	"math"
 	"strconv"
 	"strings"
@@ -452,6 +454,12 @@ func TestSplit(t *testing.T) {
 		{`a "b c" d`, 0, []string{"a", "b c", "d"}},
 		{"", ',', []string{""}},
 		{"   ", 0, nil},
+		{"P1234567,-500123.456,-5000123.789,+101.234,kerb line", ',', []string{"P1234567", "-500123.456", "-5000123.789", "+101.234", "kerb line"}},
+		{",,,,,,,,,", ',', []string{"", "", "", "", "", "", "", "", "", ""}},
+		{"abcdefg,hijklmno,p", ',', []string{"abcdefg", "hijklmno", "p"}},
+		{"abcdefgh,ijklmnop,\"q,r\"", ',', []string{"abcdefgh", "ijklmnop", "q,r"}},
+		{"id;  e ;\tn\t;z", ';', []string{"id", "e", "n", "z"}},
+		{"1\t2\t 3 \t4", '\t', []string{"1", "2", "3", "4"}},
 	}
 	for _, tt := range tests {
 		line := []byte(tt.line)
@@ -461,6 +469,37 @@ func TestSplit(t *testing.T) {
 		}
 		if strings.Join(got, "|") != strings.Join(tt.want, "|") || len(got) != len(tt.want) {
 			t.Errorf("split(%q, %q) = %q, want %q", tt.line, tt.delim, got, tt.want)
+		}
+	}
+}
+
+// TestSplitWords checks the word-at-a-time splitter against the byte loop
+// on random lines over a small alphabet rich in delimiters, blanks and the
+// bytes next to them in value (which catch false positives of a careless
+// zero-byte test).
+func TestSplitWords(t *testing.T) {
+	alphabet := []byte(",;\t -+.0123\x2b\x2d\x3a\x3c\x01\x00\xff ab")
+	rng := uint64(0x9e3779b97f4a7c15)
+	for n := 0; n < 20000; n++ {
+		rng ^= rng << 13
+		rng ^= rng >> 7
+		rng ^= rng << 17
+		line := make([]byte, rng%40)
+		for i := range line {
+			rng ^= rng << 13
+			rng ^= rng >> 7
+			rng ^= rng << 17
+			line[i] = alphabet[rng%uint64(len(alphabet))]
+		}
+		for _, d := range []byte{',', ';', '\t'} {
+			want := splitBytes(nil, bytes.Clone(line), d)
+			got, ok := splitWords(nil, line, d)
+			if !ok {
+				t.Fatalf("splitWords refused %q, which has no quote", line)
+			}
+			if fmt.Sprint(got) != fmt.Sprint(want) {
+				t.Fatalf("split %q at %q: words %v, bytes %v", line, d, got, want)
+			}
 		}
 	}
 }
