@@ -12,6 +12,7 @@ import (
 	"os"
 	"strconv"
 	"strings"
+	"sync"
 	"unicode/utf8"
 
 	"gonum.org/v1/gonum/spatial/r3"
@@ -85,8 +86,9 @@ type csvReader struct {
 	lineNo  int64     // physical lines read so far
 	buf     []byte    // current line
 	fields  []span
-	arena   []byte // id and code bytes of the current chunk
-	ends    []int  // per record: end of its id, end of its code in arena
+	arena   []byte      // id and code bytes of the current chunk
+	ends    []int       // per record: end of its id, end of its code in arena
+	scratch *csvScratch // where br, ends, arena and ids came from
 
 	rows, rejected int64
 	firstBad       int64
@@ -100,6 +102,23 @@ type csvReader struct {
 	info Info
 	err  error // sticky fatal error, or io.EOF once done
 }
+
+// csvScratch holds the buffers of a delimited-text reader, reused through
+// scratchPool by the next reader once one is closed: reading many small
+// shot files then allocates little beyond the records' strings.
+type csvScratch struct {
+	br    *bufio.Reader
+	ends  []int
+	arena []byte
+	ids   idSet
+}
+
+// maxPooledIDs bounds the id table kept for reuse (2^17 slots, 2 MiB).
+const maxPooledIDs = 1 << 17
+
+var scratchPool = sync.Pool{New: func() any {
+	return &csvScratch{br: bufio.NewReaderSize(nil, 1<<16)}
+}}
 
 // sampled is one data line kept from sniffing.
 type sampled struct {
@@ -126,10 +145,17 @@ func OpenCSV(path string, opt Options) (Reader, error) {
 // newCSV reads the first lines of src to settle delimiter, header and
 // columns. path only names the file in errors.
 func newCSV(src io.Reader, path string, opt Options) (*csvReader, error) {
+	sc := scratchPool.Get().(*csvScratch)
+	sc.br.Reset(src)
+	sc.ids.clear()
 	r := &csvReader{
-		path: path,
-		br:   bufio.NewReaderSize(src, 1<<16),
-		unit: opt.Unit,
+		path:    path,
+		br:      sc.br,
+		ends:    sc.ends[:0],
+		arena:   sc.arena[:0],
+		ids:     sc.ids,
+		scratch: sc,
+		unit:    opt.Unit,
 	}
 	if r.unit.Metres == 0 {
 		r.unit = Metre
@@ -640,11 +666,6 @@ func (r *csvReader) Read(c *Chunk, max int) error {
 	if r.err != nil {
 		return r.err
 	}
-	if r.ends == nil {
-		// Room for a chunk without regrowing.
-		n := min(max, DefaultChunk)
-		r.ends, r.arena = make([]int, 0, 2*n), make([]byte, 0, 12*n)
-	}
 	r.arena, r.ends = r.arena[:0], r.ends[:0]
 	var err error
 	for c.Len() < max {
@@ -847,8 +868,18 @@ func (r *csvReader) Info() Info {
 
 // Close implements Reader.
 func (r *csvReader) Close() error {
-	if r.err == nil {
+	if r.err == nil || r.err == io.EOF {
 		r.err = &ParseError{Path: r.path, Line: int(r.lineNo), Err: errClosed}
+	}
+	if sc := r.scratch; sc != nil {
+		// Nothing of the reader's reaches the caller except through
+		// strings copied out of the arena, so its buffers can be reused.
+		sc.br.Reset(nil)
+		sc.ends, sc.arena, sc.ids = r.ends, r.arena, r.ids
+		r.scratch, r.br = nil, nil
+		if len(sc.ids.keys) <= maxPooledIDs {
+			scratchPool.Put(sc)
+		}
 	}
 	if r.close == nil {
 		return nil

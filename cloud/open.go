@@ -181,6 +181,12 @@ func (s *idSet) add(id string, line int64) (int64, bool) {
 	}
 }
 
+// clear empties s, keeping its table for reuse.
+func (s *idSet) clear() {
+	clear(s.keys)
+	s.n, s.full = 0, false
+}
+
 // reserve sizes the table for n more ids at once, saving the rehashes of
 // growing to it step by step.
 func (s *idSet) reserve(n int) {
