@@ -262,45 +262,65 @@ func (r *Reader) emit(c *cloud.Chunk, s *Scan, n int) {
 	c.Line = grow(c.Line, base+n)
 	c.Reject = grow(c.Reject, base+n)
 	pts, lines, rejects := c.P[base:], c.Line[base:], c.Reject[base:]
-	clear(rejects)
-	for i := range pts {
-		r.record++
-		lines[i] = r.record
-		var p r3.Vec
-		reject := ""
-		if bad != nil && bad[i] != 0 {
-			reject = invalidReason(bad[i])
-		} else if s.Spherical {
-			// E57 sphericalRange, sphericalAzimuth, sphericalElevation (radians).
+	// Simple passes, each a tight loop: positions, pose, unit, record
+	// numbers, then validity.
+	if s.Spherical {
+		// E57 sphericalRange, sphericalAzimuth, sphericalElevation (radians).
+		a, b, cc := a[:len(pts)], b[:len(pts)], cc[:len(pts)]
+		for i := range pts {
 			sa, ca := math.Sincos(b[i])
 			se, ce := math.Sincos(cc[i])
-			p = r3.Vec{X: a[i] * ce * ca, Y: a[i] * ce * sa, Z: a[i] * se}
-		} else {
-			p = r3.Vec{X: a[i], Y: b[i], Z: cc[i]}
+			pts[i] = r3.Vec{X: a[i] * ce * ca, Y: a[i] * ce * sa, Z: a[i] * se}
 		}
-		if reject == "" {
-			if !identity {
-				p = r3.Vec{
-					X: m[0]*p.X + m[1]*p.Y + m[2]*p.Z + t.X,
-					Y: m[3]*p.X + m[4]*p.Y + m[5]*p.Z + t.Y,
-					Z: m[6]*p.X + m[7]*p.Y + m[8]*p.Z + t.Z,
-				}
-			}
-			if r.unit != 1 {
-				p = r3.Scale(r.unit, p)
-			}
-			// The comparisons fail for NaN too, so they catch NaN, ±Inf
-			// and magnitudes beyond cloud.MaxCoord; the reason is worked
-			// out only then.
-			const lim = cloud.MaxCoord
-			if !(math.Abs(p.X) <= lim && math.Abs(p.Y) <= lim && math.Abs(p.Z) <= lim) {
-				reject = badValue(p)
-				p = r3.Vec{}
+	} else {
+		a, b, cc := a[:len(pts)], b[:len(pts)], cc[:len(pts)]
+		for i := range pts {
+			pts[i] = r3.Vec{X: a[i], Y: b[i], Z: cc[i]}
+		}
+	}
+	if !identity {
+		for i, p := range pts {
+			pts[i] = r3.Vec{
+				X: m[0]*p.X + m[1]*p.Y + m[2]*p.Z + t.X,
+				Y: m[3]*p.X + m[4]*p.Y + m[5]*p.Z + t.Y,
+				Z: m[6]*p.X + m[7]*p.Y + m[8]*p.Z + t.Z,
 			}
 		}
-		pts[i] = p
-		if reject != "" {
-			rejects[i] = reject
+	}
+	if u := r.unit; u != 1 {
+		for i, p := range pts {
+			pts[i] = r3.Scale(u, p)
+		}
+	}
+	for i := range lines {
+		lines[i] = r.record + 1 + int64(i)
+	}
+	r.record += int64(n)
+	clear(rejects)
+	rejected := false
+	if bad != nil {
+		bad := bad[:len(pts)]
+		for i := range pts {
+			if bad[i] != 0 {
+				rejects[i] = invalidReason(bad[i])
+				rejected = true
+			}
+		}
+	}
+	// The comparisons fail for NaN too, so they catch NaN, ±Inf and
+	// magnitudes beyond cloud.MaxCoord; the reason is worked out only then.
+	const lim = cloud.MaxCoord
+	for i, p := range pts {
+		if !(math.Abs(p.X) <= lim && math.Abs(p.Y) <= lim && math.Abs(p.Z) <= lim) && rejects[i] == "" {
+			rejects[i] = badValue(p)
+			rejected = true
+		}
+	}
+	if rejected {
+		for i := range pts {
+			if rejects[i] != "" {
+				pts[i] = r3.Vec{} // a rejected record's P is the zero vector
+			}
 		}
 	}
 	scanNo := float64(r.cur + 1)

@@ -14,8 +14,7 @@ const (
 	packetEmpty = 2
 
 	sectionHeaderSize = 32
-	maxPacket         = 1 << 16 // packetLogicalLengthMinus1 is a uint16
-	streamPad         = 9       // zero bytes kept after a stream's data for 64-bit loads
+	streamPad         = 9 // zero bytes kept after a stream's data for 64-bit loads
 )
 
 // stream is the bytestream of one prototype field, concatenated across
@@ -35,21 +34,25 @@ func (s *stream) avail() int64 {
 	return int64((uint64(len(s.buf))*8 - s.bit) / uint64(s.f.Bits))
 }
 
-// push appends a packet's bytes for this stream, dropping consumed bytes.
-func (s *stream) push(b []byte) {
+// extend makes room for n more bytes at the end of the stream, dropping
+// consumed bytes first, and returns that room for the caller to fill. The
+// streamPad bytes after it are zero.
+func (s *stream) extend(n int) []byte {
 	if drop := int(s.bit / 8); drop > 0 {
-		n := copy(s.buf, s.buf[drop:])
-		s.buf = s.buf[:n]
+		k := copy(s.buf, s.buf[drop:])
+		s.buf = s.buf[:k]
 		s.bit -= uint64(drop) * 8
 	}
-	need := len(s.buf) + len(b) + streamPad
+	old := len(s.buf)
+	need := old + n + streamPad
 	if cap(s.buf) < need {
-		nb := make([]byte, len(s.buf), 2*need)
+		nb := make([]byte, old, 2*need)
 		copy(nb, s.buf)
 		s.buf = nb
 	}
-	s.buf = append(s.buf, b...)
-	clear(s.buf[len(s.buf) : len(s.buf)+streamPad])
+	s.buf = s.buf[:old+n]
+	clear(s.buf[old+n : old+n+streamPad])
+	return s.buf[old:]
 }
 
 // decode writes the next len(dst) values of the stream to dst as float64
@@ -124,7 +127,7 @@ type vector struct {
 	next    int64 // logical offset of the next packet
 	end     int64 // logical end of the section
 	left    int64 // records not yet decoded
-	pkt     []byte
+	lens    []byte
 }
 
 // newVector reads the section header at the scan's physical offset. used
@@ -208,31 +211,39 @@ func (v *vector) packet() error {
 	default:
 		return &FormatError{Offset: phys, Msg: fmt.Sprintf("unknown packet type %d", h[0])}
 	}
-	if cap(v.pkt) < maxPacket {
-		v.pkt = make([]byte, maxPacket)
-	}
-	pkt := v.pkt[:n]
-	if err := v.p.readAt(pkt, v.next); err != nil {
-		return err
-	}
+	// Read the bytestream lengths, then each used stream's bytes straight
+	// from the pages into its buffer; unused streams are skipped unread.
 	if n < 6 {
 		return &FormatError{Offset: phys, Msg: "data packet shorter than its header"}
 	}
-	count := int(le.Uint16(pkt[4:]))
+	var cb [2]byte
+	if err := v.p.readAt(cb[:], v.next+4); err != nil {
+		return err
+	}
+	count := int(le.Uint16(cb[:]))
 	if count != len(v.streams) {
 		return &FormatError{Offset: phys + 4, Msg: fmt.Sprintf("data packet has %d bytestreams, the prototype %d fields", count, len(v.streams))}
 	}
-	o := 6 + 2*count
-	if int64(o) > n {
+	o := int64(6 + 2*count)
+	if o > n {
 		return &FormatError{Offset: phys, Msg: "data packet bytestream lengths run past the packet"}
 	}
+	if cap(v.lens) < 2*count {
+		v.lens = make([]byte, 2*count)
+	}
+	lens := v.lens[:2*count]
+	if err := v.p.readAt(lens, v.next+6); err != nil {
+		return err
+	}
 	for i := range v.streams {
-		l := int(le.Uint16(pkt[6+2*i:]))
-		if int64(o+l) > n {
+		l := int64(le.Uint16(lens[2*i:]))
+		if o+l > n {
 			return &FormatError{Offset: phys + int64(6+2*i), Msg: fmt.Sprintf("bytestream %d of %d bytes runs past the packet", i+1, l)}
 		}
-		if s := &v.streams[i]; s.used {
-			s.push(pkt[o : o+l])
+		if s := &v.streams[i]; s.used && l > 0 {
+			if err := v.p.readAt(s.extend(int(l)), v.next+o); err != nil {
+				return err
+			}
 		}
 		o += l
 	}
