@@ -396,7 +396,8 @@ const (
 // zeroBytes returns a word with the top bit set in exactly the bytes of x
 // that are zero (the carry-free form, without the false positives of the
 // shorter (x − 0x01…) & ^x & 0x80… test after a zero byte; H. S. Warren,
-// Hacker's Delight, 2nd ed., §6-1).
+// Hacker's Delight, 2nd ed., "Find First 0-Byte", §6-1 — section number
+// from memory). TestSplitWords checks it against the byte loop.
 func zeroBytes(x uint64) uint64 {
 	t := (x & swarHigh) + swarHigh
 	return ^(t | x | swarHigh)

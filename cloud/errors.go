@@ -11,7 +11,8 @@ import (
 // formats) or a *FormatError (binary formats and sniffing), and, except for
 // ErrTooManyRejected and ErrUnknownFormat, as the cause of a rejected record.
 var (
-	// ErrFieldCount: a row has more fields than the columns allow.
+	// ErrFieldCount: a row has more fields than the columns allow, or
+	// --columns names a column twice.
 	ErrFieldCount = errors.New("wrong number of fields")
 	// ErrNumber: a numeric field does not parse as a number.
 	ErrNumber = errors.New("not a number")
