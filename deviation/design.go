@@ -726,8 +726,8 @@ func (p *parser) meshPatch(m map[string]*yaml.Node, key string, pt Patch, d *Des
 // and pr still given), or StatusOutside where no patch contains the foot
 // (patch −1, pr of the nearest patch by |D|, for diagnostics).
 //
-// Patches whose padded bounding box lies farther than FarM + |OffsetM|
-// from x are tried only when no nearer patch gives a used point: any foot
+// Patches whose padded bounding box, grown by FarM + |OffsetM|, does not
+// contain x are tried only when no nearer patch gives a used point: any foot
 // on them is that far away, so they cannot beat a used point, and the
 // second pass keeps the result identical to projecting on every patch.
 // Analytic patches derive their box from their geometry and margin; a
@@ -735,18 +735,25 @@ func (p *parser) meshPatch(m map[string]*yaml.Node, key string, pt Patch, d *Des
 // returning a box that holds every foot it reports (its vertex box).
 // Classify does not allocate and is safe for concurrent use.
 func (d *Design) Classify(x r3.Vec) (patch int, pr Projection, st Status) {
+	// The work is done by classify writing through a pointer: returning
+	// the loop's running best by value costs the compiler a copy per
+	// patch and about a third of the per-point time.
+	patch, st = d.classify(x, &pr)
+	return patch, pr, st
+}
+
+func (d *Design) classify(x r3.Vec, out *Projection) (int, Status) {
 	far := d.Tolerance.FarM
 	if far == 0 {
 		far = DefaultFarM
 	}
 	reach := far + math.Abs(d.OffsetM)
-	reach2 := reach * reach
 	patch, near := -1, -1
 	bestAbs, nearAbs := math.Inf(1), math.Inf(1)
 	skipped := false
 	for i := range d.Patches {
 		pt := &d.Patches[i]
-		if pt.hasBox && boxDist2(x, pt.boxLo, pt.boxHi) > reach2 {
+		if pt.hasBox && !nearBox(x, pt.boxLo, pt.boxHi, reach) {
 			skipped = true
 			continue
 		}
@@ -756,15 +763,16 @@ func (d *Design) Classify(x r3.Vec) (patch int, pr Projection, st Status) {
 			near, nearAbs = i, a
 		}
 		if p.Inside && a < bestAbs {
-			patch, bestAbs, pr = i, a, p
+			patch, bestAbs = i, a
+			*out = p
 		}
 	}
-	if skipped && (patch < 0 || math.Abs(pr.D-d.OffsetM) > far) {
+	if skipped && (patch < 0 || math.Abs(out.D-d.OffsetM) > far) {
 		// Second pass, over the skipped patches only: the result is then
 		// the same as projecting on every patch.
 		for i := range d.Patches {
 			pt := &d.Patches[i]
-			if !pt.hasBox || boxDist2(x, pt.boxLo, pt.boxHi) <= reach2 {
+			if !pt.hasBox || nearBox(x, pt.boxLo, pt.boxHi, reach) {
 				continue
 			}
 			p := pt.Surface.Project(x)
@@ -773,23 +781,23 @@ func (d *Design) Classify(x r3.Vec) (patch int, pr Projection, st Status) {
 				near, nearAbs = i, a
 			}
 			if p.Inside && a < bestAbs {
-				patch, bestAbs, pr = i, a, p
+				patch, bestAbs = i, a
+				*out = p
 			}
 		}
 	}
-	switch {
-	case patch < 0:
+	if patch < 0 {
 		if near >= 0 {
-			pr = d.Patches[near].Surface.Project(x)
-			pr.D -= d.OffsetM
+			*out = d.Patches[near].Surface.Project(x)
+			out.D -= d.OffsetM
 		}
-		return -1, pr, StatusOutside
-	case math.Abs(pr.D-d.OffsetM) > far:
-		pr.D -= d.OffsetM
-		return patch, pr, StatusFar
+		return -1, StatusOutside
 	}
-	pr.D -= d.OffsetM
-	return patch, pr, StatusUsed
+	out.D -= d.OffsetM
+	if math.Abs(out.D) > far {
+		return patch, StatusFar
+	}
+	return patch, StatusUsed
 }
 
 // setBox records a bounding box for Classify, padded by 1 µm so that the
@@ -805,12 +813,15 @@ func (p *Patch) setBox(lo, hi r3.Vec, ok bool) {
 	p.boxLo, p.boxHi, p.hasBox = r3.Sub(lo, pad), r3.Add(hi, pad), true
 }
 
-// boxDist2 is the squared distance from x to the box [lo, hi].
-func boxDist2(x, lo, hi r3.Vec) float64 {
-	dx := max(lo.X-x.X, x.X-hi.X, 0)
-	dy := max(lo.Y-x.Y, x.Y-hi.Y, 0)
-	dz := max(lo.Z-x.Z, x.Z-hi.Z, 0)
-	return dx*dx + dy*dy + dz*dz
+// nearBox reports whether x lies in the box [lo, hi] grown by r on every
+// side. Outside it, x is farther than r from the box (the grown box
+// contains the ball of radius r around the box), so skipping is safe.
+// Plain comparisons: the builtin min/max on floats cost more here than
+// the whole test.
+func nearBox(x, lo, hi r3.Vec, r float64) bool {
+	return x.X >= lo.X-r && x.X <= hi.X+r &&
+		x.Y >= lo.Y-r && x.Y <= hi.Y+r &&
+		x.Z >= lo.Z-r && x.Z <= hi.Z+r
 }
 
 // Extent returns the plan bounding box (site X, Y) of the analytic patches'
