@@ -188,7 +188,7 @@ func newCSV(src io.Reader, path string, opt Options) (*csvReader, error) {
 	r.decComma = r.delim == ';' || r.delim == '\t'
 	r.info.Facts = append(r.info.Facts, Fact{"delimiter", delimName(r.delim)})
 	if r.decComma {
-		r.info.Facts = append(r.info.Facts, Fact{"decimal mark", "point or comma"})
+		r.info.Facts = append(r.info.Facts, Fact{"decimals", "point or comma"})
 	}
 
 	first, firstNo := r.pending[0].text, r.pending[0].line // header or data
@@ -210,7 +210,7 @@ func newCSV(src io.Reader, path string, opt Options) (*csvReader, error) {
 		err = r.setColumns(opt.Columns, false, 0)
 	case isHeader:
 		r.pending = r.pending[1:]
-		r.info.Facts = append(r.info.Facts, Fact{"header line", strconv.FormatInt(firstNo, 10)})
+		r.info.Facts = append(r.info.Facts, Fact{"header", "line " + strconv.FormatInt(firstNo, 10)})
 		err = r.setColumns(names, true, int(firstNo))
 	default:
 		err = r.guessXYZ()
