@@ -556,3 +556,34 @@ func TestReferenceReader(t *testing.T) {
 		t.Errorf("%d files compared, want 3", compared)
 	}
 }
+
+// TestTruncatedWhileReading shortens a file after Open: Read must return a
+// typed error (a *FormatError wrapping io.ErrUnexpectedEOF from the mapped
+// path, or a read error from ReadAt), never crash.
+func TestTruncatedWhileReading(t *testing.T) {
+	s := synthScans()[0]
+	data := buildE57([]synthScan{s, s, s, s, s, s, s, s}, 3000)
+	p := filepath.Join(t.TempDir(), "shrinking.e57")
+	if err := os.WriteFile(p, data, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	r, err := Open(p, cloud.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer r.Close()
+	var c cloud.Chunk
+	if err := r.Read(&c, 10); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.Truncate(p, 8192); err != nil {
+		t.Fatal(err)
+	}
+	for err == nil {
+		err = r.Read(&c, 0)
+	}
+	var fe *FormatError
+	if !errors.As(err, &fe) || !errors.Is(err, io.ErrUnexpectedEOF) || c.Len() != 0 {
+		t.Fatalf("got %v with %d records, want a FormatError wrapping io.ErrUnexpectedEOF", err, c.Len())
+	}
+}

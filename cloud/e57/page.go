@@ -41,7 +41,10 @@ func toLogical(physical int64) (logical int64, ok bool) {
 // pager reads logical bytes of an E57 file, verifying the checksum of each
 // page when it is first read. It keeps one block of pages in memory.
 type pager struct {
-	r     io.ReaderAt
+	r io.ReaderAt
+	// mm maps the whole file where the system allows; blocks are then
+	// verified and read in place instead of being copied out first.
+	mm    []byte
 	pages int64 // pages in the file
 	block []byte
 	first int64 // index of the first page in block
@@ -61,16 +64,23 @@ func (p *pager) load(pg int64) error {
 	if n > blockPages {
 		n = blockPages
 	}
-	if cap(p.block) < int(n)*pageSize {
-		p.block = make([]byte, blockPages*pageSize)
-	}
-	b := p.block[:n*pageSize]
-	if got, err := p.r.ReadAt(b, first*pageSize); got < len(b) {
-		p.first = -1
-		if err == nil || errors.Is(err, io.EOF) {
-			err = io.ErrUnexpectedEOF
+	var b []byte
+	if end := (first + n) * pageSize; p.mm != nil && end <= int64(len(p.mm)) {
+		b = p.mm[first*pageSize : end]
+		p.block = b
+	} else {
+		if p.mm != nil || cap(p.block) < int(n)*pageSize {
+			p.mm = nil
+			p.block = make([]byte, blockPages*pageSize)
 		}
-		return &FormatError{Offset: first*pageSize + int64(got), Msg: "reading pages", Err: err}
+		b = p.block[:n*pageSize]
+		if got, err := p.r.ReadAt(b, first*pageSize); got < len(b) {
+			p.first = -1
+			if err == nil || errors.Is(err, io.EOF) {
+				err = io.ErrUnexpectedEOF
+			}
+			return &FormatError{Offset: first*pageSize + int64(got), Msg: "reading pages", Err: err}
+		}
 	}
 	for i := int64(0); i < n; i++ {
 		page := b[i*pageSize : (i+1)*pageSize]

@@ -5,6 +5,7 @@ import (
 	"io"
 	"math"
 	"os"
+	"runtime/debug"
 	"strings"
 
 	"gonum.org/v1/gonum/spatial/r3"
@@ -50,6 +51,7 @@ type Reader struct {
 	vec    *vector // its section reader, nil before the first Read of it
 	record int64   // records returned so far
 	tmp    [][]float64
+	mm     []byte // the file mapped by Open, or nil
 	closed bool
 }
 
@@ -72,6 +74,10 @@ func Open(path string, opt cloud.Options) (*Reader, error) {
 	}
 	r.f = f
 	r.info.Path = path
+	if m := mapFile(f, st.Size()); m != nil {
+		r.mm = m
+		r.p.mm, r.p.first = m, -1
+	}
 	return r, nil
 }
 
@@ -138,10 +144,18 @@ func (r *Reader) Close() error {
 	}
 	r.closed = true
 	r.vec = nil
-	if r.f != nil {
-		return r.f.Close()
+	var err error
+	if r.mm != nil {
+		r.p.mm, r.p.block, r.p.first = nil, nil, -1
+		err = unmapFile(r.mm)
+		r.mm = nil
 	}
-	return nil
+	if r.f != nil {
+		if cerr := r.f.Close(); err == nil {
+			err = cerr
+		}
+	}
+	return err
 }
 
 // field returns the index of the prototype field named name, or -1.
@@ -171,10 +185,25 @@ func (s *Scan) decoded(name string) bool {
 // Read resets c and fills it with up to max records (max <= 0 means
 // cloud.DefaultChunk), moving on from one scan to the next. It returns
 // io.EOF with c empty after the last record.
-func (r *Reader) Read(c *cloud.Chunk, max int) error {
+func (r *Reader) Read(c *cloud.Chunk, max int) (err error) {
 	c.Reset()
 	if r.closed {
 		return os.ErrClosed
+	}
+	if r.mm != nil {
+		// A mapped file truncated by another program faults on access:
+		// make that a *FormatError, not a crash.
+		defer debug.SetPanicOnFault(debug.SetPanicOnFault(true))
+		defer func() {
+			if e := recover(); e != nil {
+				if _, ok := e.(interface{ Addr() uintptr }); !ok {
+					panic(e)
+				}
+				c.Reset()
+				r.vec, r.p.first = nil, -1
+				err = &FormatError{Offset: -1, Msg: "the file changed (was truncated) while it was being read", Err: io.ErrUnexpectedEOF}
+			}
+		}()
 	}
 	if max <= 0 {
 		max = cloud.DefaultChunk

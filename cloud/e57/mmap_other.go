@@ -1,0 +1,9 @@
+//go:build !unix
+
+package e57
+
+import "os"
+
+func mapFile(*os.File, int64) []byte { return nil }
+
+func unmapFile([]byte) error { return nil }
