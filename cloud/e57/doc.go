@@ -14,7 +14,11 @@
 // Reading is streaming: the reader walks the data packets of one scan at a
 // time and verifies each page's checksum the first time it reads it; a bad
 // checksum is a *ChecksumError naming the page index and its physical
-// offset. The binary section is never loaded whole.
+// offset. The binary section is never loaded whole: Open maps the file into
+// memory where the system allows (unix mmap) and verifies and reads pages in
+// place, 64 at a time; otherwise, and for NewReader, it reads them in blocks
+// of 64 with ReadAt. A mapped file truncated by another program while it is
+// read gives a *FormatError, not a crash.
 //
 // Coordinates are float64 metres (E57 stores metres by definition; the
 // caller's Options.Unit is applied only if it is a non-metre unit). A
