@@ -43,10 +43,7 @@ const (
 // are those of common survey exports (common practice); x is taken as the
 // easting and y as the northing, as in the XYZ convention.
 func columnRole(name string) string {
-	n := strings.ToLower(strings.TrimSpace(name))
-	if i := strings.IndexAny(n, "(["); i > 0 {
-		n = strings.TrimSpace(n[:i])
-	}
+	n, _ := headerName(name)
 	switch n {
 	case "point", "pt", "id", "name", "pointid", "point_id", "point id", "pt_id", "ptid", "point_name", "pointname":
 		return roleID
@@ -62,6 +59,16 @@ func columnRole(name string) string {
 		return roleSkip
 	}
 	return ""
+}
+
+// headerName splits a column name such as "Easting (m)" into its
+// lower-case base name and unit text: "easting", "m".
+func headerName(name string) (base, unit string) {
+	base = strings.ToLower(strings.TrimSpace(name))
+	if i := strings.IndexAny(base, "(["); i > 0 {
+		base, unit = strings.TrimSpace(base[:i]), strings.Trim(base[i:], "()[] ")
+	}
+	return base, unit
 }
 
 // span is the byte range [a, b) of one field within a line.
@@ -228,7 +235,8 @@ func (r *csvReader) setColumns(names []string, fromHeader bool, line int) error 
 	r.idCol, r.eCol, r.nCol, r.zCol, r.codeCol = -1, -1, -1, -1, -1
 	slot := map[string]*int{roleID: &r.idCol, roleE: &r.eCol, roleN: &r.nCol, roleZ: &r.zCol, roleCode: &r.codeCol}
 	cols := make([]string, len(names))
-	var saidXY []string
+	var saidXY bool
+	unitClash := ""
 	for i, name := range names {
 		role := columnRole(name)
 		key := strings.TrimSpace(name)
@@ -248,8 +256,10 @@ func (r *csvReader) setColumns(names []string, fromHeader bool, line int) error 
 			} else {
 				*p = i
 				cols[i] = role
-				if l := strings.ToLower(key); fromHeader && (l == "x" || l == "y") {
-					saidXY = append(saidXY, l)
+				base, unit := headerName(key)
+				saidXY = saidXY || fromHeader && (base == "x" || base == "y")
+				if u, err := ParseUnit(unit); fromHeader && unit != "" && err == nil && u.Metres != r.unit.Metres && unitClash == "" && (role == roleE || role == roleN || role == roleZ) {
+					unitClash = fmt.Sprintf("the header gives %q in %s but the unit in use is %s: pass --unit %s if the header is right", key, u.Name, r.unit.Name, u.Name)
 				}
 				continue
 			}
@@ -278,8 +288,11 @@ func (r *csvReader) setColumns(names []string, fromHeader bool, line int) error 
 			Err: fmt.Errorf("%w: %s names no %s column (found %s; accepted spellings: e/east/easting/x, n/north/northing/y, z/h/elev/elevation/height/rl)",
 				ErrMissingColumn, src, strings.Join(missing, ", "), strings.Join(names, ","))}
 	}
-	if len(saidXY) > 0 {
+	if saidXY {
 		r.info.Warnings = append(r.info.Warnings, "the header names x/y columns: assumed x = easting, y = northing (some systems call the north axis x; if this file does, pass --columns)")
+	}
+	if unitClash != "" {
+		r.info.Warnings = append(r.info.Warnings, unitClash)
 	}
 	return nil
 }

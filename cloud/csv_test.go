@@ -50,6 +50,8 @@ func TestCSVColumns(t *testing.T) {
 	}{
 		{name: "PENZD header", text: "Point,Easting,Northing,Elevation,Code\nP1,500123.456,5000123.789,101.234,SRF\n", id: "P1", code: "SRF"},
 		{name: "PNEZD header", text: "PT,N,E,Z,DESC\nP1,5000123.789,500123.456,101.234,SRF\n", id: "P1", code: "SRF"},
+		{name: "header unit differs from --unit", text: "Pt,East (ft),North (ft),Elev (ft)\nP1,500123.456,5000123.789,101.234\n", id: "P1", warn: `"East (ft)" in ft but the unit in use is m`},
+		{name: "X in capitals", text: "Pt,X,Y,Z\nP1,500123.456,5000123.789,101.234\n", id: "P1", warn: "x = easting"},
 		{name: "upper case and units in header", text: "POINT_ID,NORTH (m),EAST (m),RL [m],REMARK\nP1,5000123.789,500123.456,101.234,SRF\n", id: "P1", code: "SRF"},
 		{name: "pointid height description", text: "pointid;northing;easting;height;description\nP1;5000123.789;500123.456;101.234;SRF\n", id: "P1", code: "SRF"},
 		{name: "name h remark tab", text: "name\tE\tN\tH\tremark\nP1\t500123.456\t5000123.789\t101.234\tSRF\n", id: "P1", code: "SRF"},

@@ -33,7 +33,9 @@
 //
 // Columns map to (E, N, Z) = (x, y, z) by name, whatever their order, so
 // northing-before-easting files read correctly; a header saying x/y gives
-// a warning that x was taken as the easting. Other columns are numeric
+// a warning that x was taken as the easting, and a unit in a coordinate's
+// name ("East (ft)") that differs from Options.Unit gives a warning too
+// (the unit is never taken from the file). Other columns are numeric
 // attributes (Chunk.Attr). A headerless file needs Options.Columns (such as
 // id,n,e,z,code; "-" skips a column), because the order of northing and
 // easting cannot be guessed, except a file of only numbers whose first
