@@ -119,6 +119,35 @@ func BenchmarkCSV(b *testing.B) {
 	})
 }
 
+// BenchmarkXYZ reads a headerless blank-separated scan export of 200,000
+// points, "x y z intensity" with mm decimals (plain XYZ text).
+func BenchmarkXYZ(b *testing.B) {
+	const n = 200000
+	path := filepath.Join(b.TempDir(), "scan.xyz")
+	f, err := os.Create(path)
+	if err != nil {
+		b.Fatal(err)
+	}
+	w := bufio.NewWriter(f)
+	for i := 0; i < n; i++ {
+		x := 500000 + float64(i%1000)*0.0313
+		y := 5000000 + float64(i/1000)*0.0271
+		z := 100 + math.Sin(float64(i))
+		w.WriteString(strconv.FormatFloat(x, 'f', 3, 64) + " " + strconv.FormatFloat(y, 'f', 3, 64) + " " + strconv.FormatFloat(z, 'f', 3, 64) + " " + strconv.Itoa(i%4096) + "\n")
+	}
+	if err := w.Flush(); err != nil {
+		b.Fatal(err)
+	}
+	st, _ := f.Stat()
+	f.Close()
+	var c Chunk
+	loopCPU(b, st.Size(), func() {
+		if got := readFile(b, path, &c); got != n {
+			b.Fatalf("read %d records", got)
+		}
+	})
+}
+
 // BenchmarkPLYBinary reads a 10^6-vertex binary little-endian PLY of
 // double x, y, z, uchar intensity (25 MB); MB/s is of file bytes.
 func BenchmarkPLYBinary(b *testing.B) {

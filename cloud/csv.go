@@ -391,12 +391,51 @@ func delimName(d byte) string {
 // quotes are removed in place and "" inside it becomes ". It returns dst
 // refilled.
 func split(dst []span, line []byte, delim byte) []span {
+	var out []span
+	ok := false
 	if delim != 0 {
-		if out, ok := splitWords(dst[:0], line, delim); ok {
-			return out
-		}
+		out, ok = splitWords(dst[:0], line, delim)
+	} else {
+		out, ok = splitBlankWords(dst[:0], line)
+	}
+	if ok {
+		return out
 	}
 	return splitBytes(dst[:0], line, delim)
+}
+
+// splitBlankWords is split for runs of blanks on a line without quotes,
+// eight bytes at a time: a field is a run of bytes between blanks. It
+// reports false, having done nothing useful, when the line holds a double
+// quote.
+func splitBlankWords(dst []span, line []byte) ([]span, bool) {
+	sm, tm, qm := swarLow*uint64(' '), swarLow*uint64('\t'), swarLow*uint64('"')
+	start, i := 0, 0
+	cut := func(k int) {
+		if k > start {
+			dst = append(dst, span{start, k})
+		}
+		start = k + 1
+	}
+	for ; i+8 <= len(line); i += 8 {
+		w := binary.LittleEndian.Uint64(line[i:])
+		if zeroBytes(w^qm) != 0 {
+			return dst, false
+		}
+		for m := zeroBytes(w^sm) | zeroBytes(w^tm); m != 0; m &= m - 1 {
+			cut(i + bits.TrailingZeros64(m)>>3)
+		}
+	}
+	for ; i < len(line); i++ {
+		switch line[i] {
+		case '"':
+			return dst, false
+		case ' ', '\t':
+			cut(i)
+		}
+	}
+	cut(len(line))
+	return dst, true
 }
 
 // SWAR ("SIMD within a register") constants: one byte value repeated in

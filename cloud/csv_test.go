@@ -493,9 +493,15 @@ func TestSplitWords(t *testing.T) {
 			rng ^= rng << 17
 			line[i] = alphabet[rng%uint64(len(alphabet))]
 		}
-		for _, d := range []byte{',', ';', '\t'} {
+		for _, d := range []byte{',', ';', '\t', 0} {
 			want := splitBytes(nil, bytes.Clone(line), d)
-			got, ok := splitWords(nil, line, d)
+			var got []span
+			var ok bool
+			if d == 0 {
+				got, ok = splitBlankWords(nil, line)
+			} else {
+				got, ok = splitWords(nil, line, d)
+			}
 			if !ok {
 				t.Fatalf("splitWords refused %q, which has no quote", line)
 			}
