@@ -735,21 +735,16 @@ func (p *parser) meshPatch(m map[string]*yaml.Node, key string, pt Patch, d *Des
 // returning a box that holds every foot it reports (its vertex box).
 // Classify does not allocate and is safe for concurrent use.
 func (d *Design) Classify(x r3.Vec) (patch int, pr Projection, st Status) {
-	// The work is done by classify writing through a pointer: returning
-	// the loop's running best by value costs the compiler a copy per
-	// patch and about a third of the per-point time.
-	patch, st = d.classify(x, &pr)
-	return patch, pr, st
-}
-
-func (d *Design) classify(x r3.Vec, out *Projection) (int, Status) {
+	// The running best is written through a pointer: keeping it as a
+	// value costs the compiler a copy per patch, a third of the time.
+	out := &pr
 	far := d.Tolerance.FarM
 	if far == 0 {
 		far = DefaultFarM
 	}
 	reach := far + math.Abs(d.OffsetM)
-	patch, near := -1, -1
-	bestAbs, nearAbs := math.Inf(1), math.Inf(1)
+	patch = -1
+	bestAbs := math.Inf(1)
 	skipped := false
 	for i := range d.Patches {
 		pt := &d.Patches[i]
@@ -758,46 +753,55 @@ func (d *Design) classify(x r3.Vec, out *Projection) (int, Status) {
 			continue
 		}
 		p := pt.Surface.Project(x)
-		a := math.Abs(p.D)
-		if a < nearAbs {
-			near, nearAbs = i, a
-		}
-		if p.Inside && a < bestAbs {
+		if a := math.Abs(p.D); p.Inside && a < bestAbs {
 			patch, bestAbs = i, a
 			*out = p
 		}
 	}
-	if skipped && (patch < 0 || math.Abs(out.D-d.OffsetM) > far) {
-		// Second pass, over the skipped patches only: the result is then
-		// the same as projecting on every patch.
+	if patch >= 0 && math.Abs(out.D-d.OffsetM) <= far {
+		out.D -= d.OffsetM
+		return patch, pr, StatusUsed
+	}
+	return d.classifySlow(x, out, patch, bestAbs, skipped, far, reach)
+}
+
+// classifySlow finishes Classify for points not used on a nearby patch:
+// it tries the skipped patches (so that the result is the same as
+// projecting on every patch), then sorts out far and outside points.
+func (d *Design) classifySlow(x r3.Vec, out *Projection, patch int, bestAbs float64, skipped bool, far, reach float64) (int, Projection, Status) {
+	if skipped {
 		for i := range d.Patches {
 			pt := &d.Patches[i]
 			if !pt.hasBox || nearBox(x, pt.boxLo, pt.boxHi, reach) {
 				continue
 			}
 			p := pt.Surface.Project(x)
-			a := math.Abs(p.D)
-			if a < nearAbs {
-				near, nearAbs = i, a
-			}
-			if p.Inside && a < bestAbs {
+			if a := math.Abs(p.D); p.Inside && a < bestAbs {
 				patch, bestAbs = i, a
 				*out = p
 			}
 		}
 	}
 	if patch < 0 {
+		// Outside: report the nearest patch by |D|, for diagnostics.
+		near, nearAbs := -1, math.Inf(1)
+		for i := range d.Patches {
+			p := d.Patches[i].Surface.Project(x)
+			if a := math.Abs(p.D); a < nearAbs {
+				near, nearAbs = i, a
+				*out = p
+			}
+		}
 		if near >= 0 {
-			*out = d.Patches[near].Surface.Project(x)
 			out.D -= d.OffsetM
 		}
-		return -1, StatusOutside
+		return -1, *out, StatusOutside
 	}
 	out.D -= d.OffsetM
 	if math.Abs(out.D) > far {
-		return patch, StatusFar
+		return patch, *out, StatusFar
 	}
-	return patch, StatusUsed
+	return patch, *out, StatusUsed
 }
 
 // setBox records a bounding box for Classify, padded by 1 µm so that the
