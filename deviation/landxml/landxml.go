@@ -100,6 +100,7 @@ func Parse(r io.Reader) (*File, error) {
 
 type parser struct {
 	d     *xml.Decoder
+	stack []string // open elements, checked against end tags (RawToken does not)
 	f     *File
 	cur   *TIN
 	ids   map[string]int32
@@ -136,10 +137,37 @@ func attr(se xml.StartElement, name string) (string, bool) {
 	return "", false
 }
 
+// token returns the next token through RawToken, which is much cheaper than
+// Token (no namespace translation), checking element nesting itself.
+// LandXML elements are matched by local name, so prefixes do not matter.
+func (p *parser) token() (xml.Token, error) {
+	tok, err := p.d.RawToken()
+	if err != nil {
+		if err == io.EOF && len(p.stack) > 0 {
+			return nil, fmt.Errorf("element <%s> not closed: %w", p.stack[len(p.stack)-1], io.ErrUnexpectedEOF)
+		}
+		return nil, err
+	}
+	switch t := tok.(type) {
+	case xml.StartElement:
+		p.stack = append(p.stack, t.Name.Local)
+	case xml.EndElement:
+		if len(p.stack) == 0 || p.stack[len(p.stack)-1] != t.Name.Local {
+			open := "none"
+			if len(p.stack) > 0 {
+				open = "<" + p.stack[len(p.stack)-1] + ">"
+			}
+			return nil, fmt.Errorf("end tag </%s> does not match the open element %s", t.Name.Local, open)
+		}
+		p.stack = p.stack[:len(p.stack)-1]
+	}
+	return tok, nil
+}
+
 func (p *parser) run() error {
 	root := false
 	for {
-		tok, err := p.d.Token()
+		tok, err := p.token()
 		if err == io.EOF {
 			break
 		}
@@ -221,7 +249,7 @@ func (p *parser) end(t xml.EndElement) error {
 func (p *parser) text() (string, error) {
 	var sb strings.Builder
 	for {
-		tok, err := p.d.Token()
+		tok, err := p.token()
 		if err != nil {
 			return "", p.errf(unexpected(err), "unterminated element")
 		}
