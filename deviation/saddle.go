@@ -290,9 +290,11 @@ func fastT(a, b, qx, qy, qz float64) (t, r1, r2 float64, ok bool) {
 	f0 := ax2 - by2 - qz
 	fp0 := -4*(ax2*a+by2*b) - 1
 	t1 := -f0 / fp0
-	s1, s2 := 1+2*a*t1, 1-2*b*t1
-	r := 1 / (s1 * s2)
-	r1, r2 = s2*r, s1*r
+	// 1 + 2a·t1 = n1/fp0 and 1 − 2b·t1 = n2/fp0: the reciprocals need not
+	// wait for t1, and one division serves both.
+	n1, n2 := fp0-2*a*f0, fp0+2*b*f0
+	r := fp0 / (n1 * n2)
+	r1, r2 = n2*r, n1*r
 	x, y := qx*r1, qy*r2
 	ax2, by2 = a*x*x, b*y*y
 	f := ax2 - by2 - qz - t1
@@ -303,7 +305,7 @@ func fastT(a, b, qx, qy, qz float64) (t, r1, r2 float64, ok bool) {
 	speed2 := 1 + 4*(ux*ux+uy*uy)
 	e := 12 * (ax2*c1*c1 + by2*c2*c2) * dt * dt // error·|F′| after the step
 	e1, e2 := 2*c1*dt, -2*c2*dt                 // s_new = s·(1 + e)
-	ok = s1 > 0 && s2 > 0 &&                    // t1 inside the bracket (−1/(2a), 1/(2b))
+	ok = n1 < 0 && n2 < 0 &&                    // 1 + 2a·t1 > 0, 1 − 2b·t1 > 0 (fp0 < 0): t1 in the bracket
 		math.Abs(dt)*(c1+c2) <= 1e-3 && e*e*speed2 <= tol2*fp*fp &&
 		math.Abs(e1) <= 1e-5 && math.Abs(e2) <= 1e-5
 	r1 *= 1 - e1 + e1*e1
