@@ -10,6 +10,7 @@ import (
 	"math"
 	"math/bits"
 	"os"
+	"runtime"
 	"strconv"
 	"strings"
 	"sync"
@@ -93,9 +94,7 @@ type csvReader struct {
 	lineNo  int64     // physical lines read so far
 	buf     []byte    // current line
 	fields  []span
-	arena   []byte      // id and code bytes of the current chunk
-	ends    []int       // per record: end of its id, end of its code in arena
-	scratch *csvScratch // where br, ends, arena and ids came from
+	scratch *csvScratch // buffers: the bufio reader, lines, parsers, ids
 
 	rows, rejected int64
 	firstBad       int64
@@ -114,11 +113,37 @@ type csvReader struct {
 // scratchPool by the next reader once one is closed: reading many small
 // shot files then allocates little beyond the records' strings.
 type csvScratch struct {
-	br    *bufio.Reader
-	ends  []int
-	arena []byte
-	ids   idSet
+	br      *bufio.Reader
+	block   []byte    // the current chunk's data lines
+	lines   []lineRef // where each of them lies in block
+	parsers [2]rowParser
+	ids     idSet
 }
+
+// lineRef is one data line of a chunk: block[a:b], physical line no.
+type lineRef struct {
+	a, b int
+	no   int64
+}
+
+// rowParser turns lines into records. A chunk's lines are shared among
+// up to two of them running at once, each on its own range of records.
+type rowParser struct {
+	fields      []span
+	arena       []byte // id and code bytes of its records
+	ends        []int  // per record: end of its id, end of its code in arena
+	rejected    int64
+	firstBad    int64
+	firstReason string
+}
+
+// Parallel parsing: a chunk of at least parallelRows lines is parsed in two
+// halves at once (when GOMAXPROCS > 1); maxBlock bounds the bytes of one
+// chunk's lines, so a chunk may hold fewer records than asked for.
+const (
+	parallelRows = 4096
+	maxBlock     = 16 << 20
+)
 
 // maxPooledIDs bounds the id table kept for reuse (2^17 slots, 2 MiB).
 const maxPooledIDs = 1 << 17
@@ -158,8 +183,6 @@ func newCSV(src io.Reader, path string, opt Options) (*csvReader, error) {
 	r := &csvReader{
 		path:    path,
 		br:      sc.br,
-		ends:    sc.ends[:0],
-		arena:   sc.arena[:0],
 		ids:     sc.ids,
 		scratch: sc,
 		unit:    opt.Unit,
@@ -719,24 +742,27 @@ func (r *csvReader) Read(c *Chunk, max int) error {
 	if r.err != nil {
 		return r.err
 	}
-	r.arena, r.ends = r.arena[:0], r.ends[:0]
+	sc := r.scratch
+	sc.block, sc.lines = sc.block[:0], sc.lines[:0]
 	var err error
-	for c.Len() < max {
+	for len(sc.lines) < max && len(sc.block) < maxBlock {
 		var line []byte
-		var no int64
+		no := r.lineNo
 		if len(r.pending) > 0 {
 			line, no = r.pending[0].text, r.pending[0].line
 			r.pending = r.pending[1:]
+		} else if line, err = r.dataLine(); err != nil {
+			break
 		} else {
-			line, err = r.dataLine()
-			if err != nil {
-				break
-			}
 			no = r.lineNo
 		}
-		r.row(c, line, no)
+		a := len(sc.block)
+		sc.block = append(sc.block, line...)
+		sc.lines = append(sc.lines, lineRef{a, len(sc.block), no})
 	}
-	r.finishStrings(c)
+	if n := len(sc.lines); n > 0 {
+		r.parse(c, n)
+	}
 	if err != nil && err != io.EOF {
 		r.err = err
 		return err
@@ -772,11 +798,78 @@ func attrsFor(dst []Attr, names []string) []Attr {
 	return dst
 }
 
-// row parses one data line and appends its record to c.
-func (r *csvReader) row(c *Chunk, line []byte, no int64) {
-	r.rows++
-	r.fields = split(r.fields, line, r.delim)
-	f := r.fields
+// parse turns the chunk's n collected lines into records, in two halves
+// at once when there are enough of them, then checks the ids for repeats.
+func (r *csvReader) parse(c *Chunk, n int) {
+	c.P, c.Line, c.Reject = grow(c.P, n), grow(c.Line, n), grow(c.Reject, n)
+	if r.idCol >= 0 {
+		c.ID = grow(c.ID, n)
+	}
+	if r.codeCol >= 0 {
+		c.Code = grow(c.Code, n)
+	}
+	for k := range c.Attr {
+		c.Attr[k].Values = grow(c.Attr[k].Values, n)
+	}
+	sc := r.scratch
+	ps := sc.parsers[:1]
+	half := n
+	if n >= parallelRows && runtime.GOMAXPROCS(0) > 1 {
+		ps, half = sc.parsers[:2], n/2
+	}
+	var wg sync.WaitGroup
+	if len(ps) == 2 {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			r.parseRange(&ps[1], c, half, n)
+		}()
+	}
+	r.parseRange(&ps[0], c, 0, half)
+	wg.Wait()
+	r.rows += int64(n)
+	for i := range ps {
+		if p := &ps[i]; p.rejected > 0 {
+			if r.rejected == 0 {
+				r.firstBad, r.firstReason = p.firstBad, p.firstReason
+			}
+			r.rejected += p.rejected
+		}
+	}
+	r.checkIDs(c)
+}
+
+// parseRange parses lines lo to hi of the chunk into records lo to hi of c
+// with p. It only reads the reader's settings, so that two ranges can be
+// parsed at once.
+func (r *csvReader) parseRange(p *rowParser, c *Chunk, lo, hi int) {
+	sc := r.scratch
+	p.arena, p.ends, p.rejected = p.arena[:0], p.ends[:0], 0
+	for i := lo; i < hi; i++ {
+		l := sc.lines[i]
+		r.row(p, c, i, sc.block[l.a:l.b], l.no)
+	}
+	if r.idCol < 0 && r.codeCol < 0 {
+		return
+	}
+	s := string(p.arena) // one allocation for all ids and codes of the range
+	a := 0
+	for j := 0; j < hi-lo; j++ {
+		idEnd, codeEnd := p.ends[2*j], p.ends[2*j+1]
+		if r.idCol >= 0 {
+			c.ID[lo+j] = s[a:idEnd]
+		}
+		if r.codeCol >= 0 {
+			c.Code[lo+j] = s[idEnd:codeEnd]
+		}
+		a = codeEnd
+	}
+}
+
+// row parses one data line into record i of c.
+func (r *csvReader) row(p *rowParser, c *Chunk, i int, line []byte, no int64) {
+	p.fields = split(p.fields, line, r.delim)
+	f := p.fields
 	nf := len(f)
 	reason := ""
 	for nf > r.ncols && f[nf-1].a == f[nf-1].b {
@@ -797,7 +890,7 @@ func (r *csvReader) row(c *Chunk, line []byte, no int64) {
 		}
 		return line[f[col].a:f[col].b], true
 	}
-	var p [3]float64
+	var xyz [3]float64
 	for k, col := range [3]int{r.eCol, r.nCol, r.zCol} {
 		if reason != "" {
 			break
@@ -807,7 +900,7 @@ func (r *csvReader) row(c *Chunk, line []byte, no int64) {
 			reason = "missing field " + r.info.Columns[col]
 			break
 		}
-		p[k], reason = r.coord(b, r.info.Columns[col])
+		xyz[k], reason = r.coord(b, r.info.Columns[col])
 	}
 	var id, code []byte
 	if r.idCol >= 0 {
@@ -827,22 +920,22 @@ func (r *csvReader) row(c *Chunk, line []byte, no int64) {
 				reason = fmt.Sprintf("non-numeric %s in column %s", quoteField(b), r.attrNames[k])
 			}
 		}
-		c.Attr[k].Values = append(c.Attr[k].Values, v)
+		c.Attr[k].Values[i] = v
 	}
 	if reason != "" {
-		p = [3]float64{}
-		if r.rejected == 0 {
-			r.firstBad, r.firstReason = no, reason
+		xyz = [3]float64{}
+		if p.rejected == 0 {
+			p.firstBad, p.firstReason = no, reason
 		}
-		r.rejected++
+		p.rejected++
 	}
-	c.P = append(c.P, r3.Vec{X: p[0], Y: p[1], Z: p[2]})
-	c.Line = append(c.Line, no)
-	c.Reject = append(c.Reject, reason)
-	r.arena = append(r.arena, id...)
-	idEnd := len(r.arena)
-	r.arena = append(r.arena, code...)
-	r.ends = append(r.ends, idEnd, len(r.arena))
+	c.P[i] = r3.Vec{X: xyz[0], Y: xyz[1], Z: xyz[2]}
+	c.Line[i] = no
+	c.Reject[i] = reason
+	p.arena = append(p.arena, id...)
+	idEnd := len(p.arena)
+	p.arena = append(p.arena, code...)
+	p.ends = append(p.ends, idEnd, len(p.arena))
 }
 
 // coord parses coordinate text b of column name and converts it to metres;
@@ -870,24 +963,8 @@ func quoteField(b []byte) string {
 	return strconv.Quote(string(b))
 }
 
-// finishStrings turns the chunk's id and code bytes into strings (one
-// allocation per chunk) and checks the ids for repeats.
-func (r *csvReader) finishStrings(c *Chunk) {
-	if r.idCol < 0 && r.codeCol < 0 {
-		return
-	}
-	s := string(r.arena)
-	a := 0
-	for i := 0; i < len(r.ends); i += 2 {
-		idEnd, codeEnd := r.ends[i], r.ends[i+1]
-		if r.idCol >= 0 {
-			c.ID = append(c.ID, s[a:idEnd])
-		}
-		if r.codeCol >= 0 {
-			c.Code = append(c.Code, s[idEnd:codeEnd])
-		}
-		a = codeEnd
-	}
+// checkIDs looks for repeated ids in the chunk.
+func (r *csvReader) checkIDs(c *Chunk) {
 	r.ids.reserve(len(c.ID))
 	for i, id := range c.ID {
 		if id == "" {
@@ -928,7 +1005,7 @@ func (r *csvReader) Close() error {
 		// Nothing of the reader's reaches the caller except through
 		// strings copied out of the arena, so its buffers can be reused.
 		sc.br.Reset(nil)
-		sc.ends, sc.arena, sc.ids = r.ends, r.arena, r.ids
+		sc.ids = r.ids
 		r.scratch, r.br = nil, nil
 		if len(sc.ids.keys) <= maxPooledIDs {
 			scratchPool.Put(sc)

@@ -293,40 +293,85 @@ func TestCSVDuplicateIDs(t *testing.T) {
 	}
 }
 
-// TestCSVChunking checks that chunk size does not change what is read.
+// TestCSVChunking checks that chunk size (and so the split of a chunk
+// between two parsers running at once) does not change what is read: values,
+// ids, codes, lines, rejects and the repeated-id report.
 func TestCSVChunking(t *testing.T) {
+	const rows = 12000
 	var b strings.Builder
 	b.WriteString("# comment\nid,e,n,z,code,intensity\n")
-	for i := 0; i < 1000; i++ {
+	line := int64(2)
+	wantBad := map[int64]bool{}
+	for i := 0; i < rows; i++ {
 		if i%97 == 0 {
 			b.WriteString("# station change\n\n")
+			line += 2
 		}
-		b.WriteString("P" + strconv.Itoa(i) + "," + strconv.Itoa(500000+i) + ".5," + strconv.Itoa(5000000-i) + ".25,10.125,C" + strconv.Itoa(i%7) + "," + strconv.Itoa(i%256) + "\n")
+		line++
+		id := "P" + strconv.Itoa(i)
+		if i == 9000 {
+			id = "P10" // repeats row 10, across the two halves of a chunk
+		}
+		e := strconv.Itoa(500000+i) + ".5"
+		if i%1500 == 7 {
+			e = "bad"
+			wantBad[line] = true
+		}
+		b.WriteString(id + "," + e + "," + strconv.Itoa(5000000-i) + ".25,10.125,\"C," + strconv.Itoa(i%7) + "\"," + strconv.Itoa(i%256) + "\n")
 	}
 	path := writeFile(t, "c.csv", []byte(b.String()))
 	var ref table
-	for k, max := range []int{0, 1, 7, 999, 1000, 5000} {
+	for k, max := range []int{0, 1, 7, 4096, 5000, 8191, 20000} {
 		r, err := Open(path, Options{})
 		if err != nil {
 			t.Fatal(err)
 		}
 		tb, err := drain(t, r, max)
+		warn := strings.Join(r.Info().Warnings, "\n")
 		r.Close()
 		if err != nil {
 			t.Fatal(err)
 		}
+		if !strings.Contains(warn, `1 records repeat an earlier point id (first: "P10" on line`) || !strings.Contains(warn, "first seen on line 15") {
+			t.Errorf("max %d: warnings %q", max, warn)
+		}
 		if k == 0 {
 			ref = tb
-			if len(tb.P) != 1000 || tb.Code[999] != "C5" || tb.ID[999] != "P999" || tb.Attr["intensity"][999] != 999%256 {
-				t.Fatalf("reference read wrong: %d points, last %q %q %v", len(tb.P), tb.ID[999], tb.Code[999], tb.Attr["intensity"][999])
+			last := rows - 1
+			if len(tb.P) != rows || tb.Code[last] != "C,"+strconv.Itoa(last%7) || tb.ID[last] != "P"+strconv.Itoa(last) || tb.Attr["intensity"][last] != float64(last%256) {
+				t.Fatalf("reference read wrong: %d points, last %q %q %v", len(tb.P), tb.ID[last], tb.Code[last], tb.Attr["intensity"][last])
+			}
+			for i, l := range tb.Line {
+				if (tb.Reject[i] != "") != wantBad[l] {
+					t.Fatalf("line %d: reject %q, want bad %v", l, tb.Reject[i], wantBad[l])
+				}
 			}
 			continue
 		}
 		for i := range ref.P {
-			if tb.P[i] != ref.P[i] || tb.ID[i] != ref.ID[i] || tb.Code[i] != ref.Code[i] || tb.Line[i] != ref.Line[i] || tb.Attr["intensity"][i] != ref.Attr["intensity"][i] {
+			if tb.P[i] != ref.P[i] || tb.ID[i] != ref.ID[i] || tb.Code[i] != ref.Code[i] || tb.Line[i] != ref.Line[i] || tb.Reject[i] != ref.Reject[i] || tb.Attr["intensity"][i] != ref.Attr["intensity"][i] {
 				t.Fatalf("max %d, record %d differs", max, i)
 			}
 		}
+	}
+}
+
+// TestCSVTooManyRejectedFirstLine checks that the reported first bad line
+// is the earliest, also when it lies in the second half of a chunk parsed
+// in two halves at once.
+func TestCSVTooManyRejectedFirstLine(t *testing.T) {
+	var b strings.Builder
+	b.WriteString("e,n,z\n")
+	for i := 0; i < 10000; i++ {
+		if i < 4000 {
+			b.WriteString("1,2,3\n")
+		} else {
+			b.WriteString("1,2,x\n")
+		}
+	}
+	_, _, err := openAll(t, writeFile(t, "h.csv", []byte(b.String())), Options{})
+	if !errors.Is(err, ErrTooManyRejected) || !strings.Contains(err.Error(), "h.csv:4002:") || !strings.Contains(err.Error(), "6000 of 10000") {
+		t.Errorf("got %v, want too many rejected at h.csv:4002 with 6000 of 10000", err)
 	}
 }
 
