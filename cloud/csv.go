@@ -747,25 +747,26 @@ func (r *csvReader) Read(c *Chunk, max int) error {
 	var err error
 	for len(sc.lines) < max && len(sc.block) < maxBlock {
 		var line []byte
-		no := r.lineNo
+		var no int64
 		if len(r.pending) > 0 {
 			line, no = r.pending[0].text, r.pending[0].line
 			r.pending = r.pending[1:]
-		} else if line, err = r.dataLine(); err != nil {
-			break
 		} else {
+			if line, err = r.dataLine(); err != nil {
+				break
+			}
 			no = r.lineNo
 		}
 		a := len(sc.block)
 		sc.block = append(sc.block, line...)
 		sc.lines = append(sc.lines, lineRef{a, len(sc.block), no})
 	}
-	if n := len(sc.lines); n > 0 {
-		r.parse(c, n)
-	}
 	if err != nil && err != io.EOF {
 		r.err = err
 		return err
+	}
+	if n := len(sc.lines); n > 0 {
+		r.parse(c, n)
 	}
 	if c.Len() > 0 {
 		return nil
