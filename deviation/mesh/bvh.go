@@ -36,7 +36,7 @@ const (
 	// median of the longest centroid axis, which halves the count, so the
 	// depth never exceeds maxDepth + 32 < stackSize.
 	maxDepth  = 40
-	stackSize = 128
+	stackSize = 80
 	// boxPad pads boxes by this fraction of the mesh extent before the
 	// outward float32 rounding (see node).
 	boxPad = 1e-9
@@ -85,6 +85,8 @@ func (m *Mesh) buildHierarchy(local []r3.Vec, tris [][3]int32) {
 			m.vid[j][k] = renum[v]
 		}
 	}
+	m.disks = make([]disk, len(m.nodes))
+	m.nodeDisks(0, b.pad)
 }
 
 type builder struct {
@@ -300,12 +302,16 @@ func up32(x float64) float32 {
 	return f
 }
 
-// boxDist2 is the squared distance from q to the box of nd (0 inside).
-func boxDist2(nd *node, q r3.Vec) float64 {
-	dx := max(float64(nd.lo[0])-q.X, q.X-float64(nd.hi[0]), 0)
-	dy := max(float64(nd.lo[1])-q.Y, q.Y-float64(nd.hi[1]), 0)
-	dz := max(float64(nd.lo[2])-q.Z, q.Z-float64(nd.hi[2]), 0)
-	return dx*dx + dy*dy + dz*dz
+// gap2 is the squared distance from x to the interval [lo, hi].
+func gap2(lo, hi, x float64) float64 {
+	v := lo - x
+	if w := x - hi; w > v {
+		v = w
+	}
+	if v < 0 {
+		return 0
+	}
+	return v * v
 }
 
 // noTriangle marks a hit not yet found; larger than any index, so the
@@ -347,12 +353,18 @@ func (m *Mesh) nearest(q r3.Vec) hit {
 	for {
 		nd := &m.nodes[n]
 		if nd.count > 0 {
-			for t := nd.first; t < nd.first+nd.count; t++ {
-				best.consider(q, t, m)
+			if m.disks[n].dist2(q) <= best.d2 {
+				for t := nd.first; t < nd.first+nd.count; t++ {
+					best.consider(q, t, m)
+				}
 			}
 		} else {
+			pair := (*[2]node)(m.nodes[nd.first : nd.first+2])
+			a, b := &pair[0], &pair[1]
+			// boxDist2 of both children, written out so that it inlines.
+			dl := gap2(float64(a.lo[0]), float64(a.hi[0]), q.X) + gap2(float64(a.lo[1]), float64(a.hi[1]), q.Y) + gap2(float64(a.lo[2]), float64(a.hi[2]), q.Z)
+			dr := gap2(float64(b.lo[0]), float64(b.hi[0]), q.X) + gap2(float64(b.lo[1]), float64(b.hi[1]), q.Y) + gap2(float64(b.lo[2]), float64(b.hi[2]), q.Z)
 			l, r := nd.first, nd.first+1
-			dl, dr := boxDist2(&m.nodes[l], q), boxDist2(&m.nodes[r], q)
 			if dr < dl {
 				l, r, dl, dr = r, l, dr, dl
 			}
@@ -370,8 +382,8 @@ func (m *Mesh) nearest(q r3.Vec) hit {
 				return best
 			}
 			sp--
-			if stack[sp].d2 <= best.d2 {
-				n = stack[sp].n
+			if e := stack[sp]; e.d2 <= best.d2 && m.disks[e.n].dist2(q) <= best.d2 {
+				n = e.n
 				break
 			}
 		}
@@ -385,4 +397,97 @@ func (m *Mesh) nearestBrute(q r3.Vec) hit {
 		best.consider(q, int32(t), m)
 	}
 	return best
+}
+
+// disk is a flat cylinder containing the triangles of a leaf: centre c,
+// unit axis n (the leaf's mean normal), radius r about the axis and
+// half-thickness t along it. For a nearly flat leaf t is the sag, far
+// thinner than an axis-aligned box of a sloping surface, so points off
+// the surface (outliers) skip neighbouring leaves that their boxes admit.
+type disk struct {
+	c, n [3]float32
+	r, t float32
+}
+
+// maxDiskTris is the largest subtree given a bounding disk: higher up
+// the sag of a curved surface makes the disk no tighter than the box,
+// and skipping them keeps the build O(N·log(maxDiskTris)).
+const maxDiskTris = 256
+
+// nodeDisks fills m.disks for the subtree at node i and returns the
+// triangle range it covers.
+func (m *Mesh) nodeDisks(i int32, pad float64) (s, e int32) {
+	nd := &m.nodes[i]
+	if nd.count > 0 {
+		s, e = nd.first, nd.first+nd.count
+	} else {
+		s, _ = m.nodeDisks(nd.first, pad)
+		_, e = m.nodeDisks(nd.first+1, pad)
+	}
+	if e-s <= maxDiskTris {
+		m.disks[i] = m.leafDisk(s, e, pad)
+	} else {
+		inf := float32(math.Inf(1))
+		m.disks[i] = disk{r: inf, t: inf} // bounds nothing
+	}
+	return s, e
+}
+
+// leafDisk bounds triangles [s, e). c and n are rounded to float32 first
+// and r, t computed from the rounded values, padded by pad and rounded
+// up, so the stored cylinder contains the float64 corners with margin.
+func (m *Mesh) leafDisk(s, e int32, pad float64) disk {
+	var c, n r3.Vec
+	cnt := 0.0
+	for t := s; t < e; t++ {
+		p := m.corners(t)
+		n = r3.Add(n, r3.Cross(r3.Sub(p[1], p[0]), r3.Sub(p[2], p[0])))
+		for _, v := range p {
+			c = r3.Add(c, v)
+			cnt++
+		}
+	}
+	c = r3.Scale(1/cnt, c)
+	if norm(n) == 0 {
+		n = r3.Vec{Z: 1}
+	}
+	n = unit(n)
+	var d disk
+	d.c = [3]float32{float32(c.X), float32(c.Y), float32(c.Z)}
+	d.n = [3]float32{float32(n.X), float32(n.Y), float32(n.Z)}
+	c = r3.Vec{X: float64(d.c[0]), Y: float64(d.c[1]), Z: float64(d.c[2])}
+	n = r3.Vec{X: float64(d.n[0]), Y: float64(d.n[1]), Z: float64(d.n[2])}
+	rr, tt := 0.0, 0.0
+	nn := r3.Dot(n, n)
+	for t := s; t < e; t++ {
+		for _, v := range m.corners(t) {
+			w := r3.Sub(v, c)
+			z := r3.Dot(w, n) / nn
+			tt = max(tt, math.Abs(z)*math.Sqrt(nn))
+			rr = max(rr, norm(r3.Sub(w, r3.Scale(z, n))))
+		}
+	}
+	d.r, d.t = up32(rr*(1+1e-6)+pad), up32(tt*(1+1e-6)+pad)
+	return d
+}
+
+// dist2 is the squared distance from q to the solid cylinder,
+//
+//	max(0, ρ − r)² + max(0, |z| − t)²,   z = n·(q − c)/|n|, ρ² = |q − c|² − z²,
+//
+// a lower bound of the distance to anything inside it.
+func (d *disk) dist2(q r3.Vec) float64 {
+	wx, wy, wz := q.X-float64(d.c[0]), q.Y-float64(d.c[1]), q.Z-float64(d.c[2])
+	nx, ny, nz := float64(d.n[0]), float64(d.n[1]), float64(d.n[2])
+	z := (wx*nx + wy*ny + wz*nz) / math.Sqrt(nx*nx+ny*ny+nz*nz)
+	w2 := wx*wx + wy*wy + wz*wz
+	rho := math.Sqrt(max(w2-z*z, 0))
+	out := 0.0
+	if v := rho - float64(d.r); v > 0 {
+		out = v * v
+	}
+	if v := math.Abs(z) - float64(d.t); v > 0 {
+		out += v * v
+	}
+	return out
 }

@@ -72,6 +72,7 @@ type Mesh struct {
 	vnorm  []r3.Vec // unit angle-weighted pseudonormal
 	vbound []bool   // on a boundary edge
 	nodes  []node
+	disks  []disk // per node, set for leaves
 	min    r3.Vec
 	max    r3.Vec
 }
@@ -88,7 +89,7 @@ func (m *Mesh) Centre() r3.Vec { return m.centre }
 // SizeBytes returns the memory held by the mesh's slices.
 func (m *Mesh) SizeBytes() int {
 	return len(m.vert)*24 + len(m.vid)*12 + len(m.ring)*4 +
-		len(m.vnorm)*24 + len(m.vbound) + len(m.nodes)*32
+		len(m.vnorm)*24 + len(m.vbound) + len(m.nodes)*32 + len(m.disks)*32
 }
 
 // degenerateRel is the relative area below which a triangle counts as
@@ -193,7 +194,7 @@ func keepValid(local []r3.Vec, tris [][3]int32, rep *Report) [][3]int32 {
 	for i, f := range tris {
 		a, b, c := local[f[0]], local[f[1]], local[f[2]]
 		l2 := math.Max(r3.Norm2(r3.Sub(b, a)), math.Max(r3.Norm2(r3.Sub(c, b)), r3.Norm2(r3.Sub(a, c))))
-		if f[0] == f[1] || f[1] == f[2] || f[2] == f[0] || !(r3.Norm(r3.Cross(r3.Sub(b, a), r3.Sub(c, a))) > degenerateRel*l2) {
+		if f[0] == f[1] || f[1] == f[2] || f[2] == f[0] || !(norm(r3.Cross(r3.Sub(b, a), r3.Sub(c, a))) > degenerateRel*l2) {
 			rep.Degenerate++
 			continue
 		}
@@ -245,12 +246,9 @@ func halfEdges(vid [][3]int32) []halfEdge {
 			he[3*t+k] = halfEdge{uint64(a)<<32 | uint64(b), int32(3*t + k)}
 		}
 	}
-	slices.SortFunc(he, func(x, y halfEdge) int {
-		if c := cmp.Compare(x.key, y.key); c != 0 {
-			return c
-		}
-		return cmp.Compare(x.h, y.h)
-	})
+	// Within an edge the order of half-edges is immaterial (and
+	// deterministic: the sort is).
+	slices.SortFunc(he, func(x, y halfEdge) int { return cmp.Compare(x.key, y.key) })
 	return he
 }
 
@@ -374,7 +372,7 @@ func orient(local []r3.Vec, tris [][3]int32, up bool, rep *Report) error {
 			reverse = vol < 0
 		} else {
 			reverse = (area.Z < 0) == up
-			if math.Abs(area.Z) <= 1e-6*r3.Norm(area) {
+			if math.Abs(area.Z) <= 1e-6*norm(area) {
 				rep.warn("component %d has no clear up or down side (mean normal horizontal): its file orientation is kept", c)
 				reverse = false
 			}
@@ -401,7 +399,7 @@ func (m *Mesh) vertexNormals() {
 		for k := range 3 {
 			e1 := r3.Sub(p[(k+1)%3], p[k])
 			e2 := r3.Sub(p[(k+2)%3], p[k])
-			alpha := math.Atan2(r3.Norm(r3.Cross(e1, e2)), r3.Dot(e1, e2))
+			alpha := math.Atan2(norm(r3.Cross(e1, e2)), r3.Dot(e1, e2))
 			i := m.vid[t][k]
 			m.vnorm[i] = r3.Add(m.vnorm[i], r3.Scale(alpha, n))
 			if m.ring[3*t+k] == int32(3*t+k) {
@@ -411,10 +409,22 @@ func (m *Mesh) vertexNormals() {
 		}
 	}
 	for i, v := range m.vnorm {
-		if l := r3.Norm(v); l > 0 {
+		if l := norm(v); l > 0 {
 			m.vnorm[i] = r3.Scale(1/l, v)
 		}
 	}
+}
+
+// norm is |v| (r3.Norm goes through math.Hypot, several times slower;
+// mesh coordinates are centred and far from overflow).
+func norm(v r3.Vec) float64 { return math.Sqrt(v.X*v.X + v.Y*v.Y + v.Z*v.Z) }
+
+// unit is v/|v|, or v when it is zero.
+func unit(v r3.Vec) r3.Vec {
+	if n := norm(v); n > 0 {
+		return r3.Scale(1/n, v)
+	}
+	return v
 }
 
 // corners returns the corners of triangle t relative to the centre.
@@ -426,5 +436,5 @@ func (m *Mesh) corners(t int32) [3]r3.Vec {
 // faceNormal returns the unit normal of triangle t (right-hand rule).
 func (m *Mesh) faceNormal(t int32) r3.Vec {
 	p := m.corners(t)
-	return r3.Unit(r3.Cross(r3.Sub(p[1], p[0]), r3.Sub(p[2], p[0])))
+	return unit(r3.Cross(r3.Sub(p[1], p[0]), r3.Sub(p[2], p[0])))
 }

@@ -76,12 +76,12 @@ func (m *Mesh) projection(q r3.Vec, h hit) deviation.Projection {
 	case dist > 0:
 		n = r3.Scale(1/d, diff)
 	default:
-		n = r3.Unit(pn)
+		n = unit(pn)
 	}
 	inside := true
 	if boundary {
 		tang := r3.Sub(diff, r3.Scale(r3.Dot(diff, nf), nf))
-		inside = r3.Norm(tang) < m.margin
+		inside = norm(tang) < m.margin
 	}
 	return deviation.Projection{D: d, Foot: r3.Add(h.foot, m.centre), Normal: n, Inside: inside}
 }
