@@ -91,13 +91,13 @@ func mmList(v []float64) []float64 {
 
 // Conforms reports whether one deviation is within the limit; a deviation
 // exactly at ±LimitM conforms.
-func (t *Tolerance) Conforms(devM float64) bool { return math.Abs(devM) <= t.LimitM }
+func (t Tolerance) Conforms(devM float64) bool { return math.Abs(devM) <= t.LimitM }
 
 // Band returns the band index of a deviation by its magnitude: 0 for
 // |d| <= BandsM[0], i for BandsM[i−1] < |d| <= BandsM[i], and len(BandsM)
 // beyond the last band. A deviation exactly on a band edge belongs to the
 // inner band, as a deviation exactly at the limit conforms.
-func (t *Tolerance) Band(devM float64) int {
+func (t Tolerance) Band(devM float64) int {
 	a := math.Abs(devM)
 	for i, b := range t.BandsM {
 		if a <= b {
@@ -134,7 +134,7 @@ func (v Verdict) MarshalText() ([]byte, error) { return []byte(v.String()), nil 
 
 // PatchVerdict applies the rule to a patch with n used points, of which
 // within conform, and the largest |deviation| maxAbsM among them.
-func (t *Tolerance) PatchVerdict(n, within int64, maxAbsM float64) Verdict {
+func (t Tolerance) PatchVerdict(n, within int64, maxAbsM float64) Verdict {
 	if n == 0 {
 		return Inconclusive
 	}
