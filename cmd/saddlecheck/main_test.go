@@ -318,3 +318,34 @@ func TestCheckWithUncertainty(t *testing.T) {
 		})
 	}
 }
+
+// TestInspectSharedFormats: the command knows every registered format —
+// the LAS, E57 and PLY sample files of ../shared/reference give the point
+// counts their PROVENANCE.md files state (skipped where ../shared is
+// absent).
+func TestInspectSharedFormats(t *testing.T) {
+	ref := filepath.Join("..", "..", "..", "shared", "reference")
+	for _, tc := range []struct {
+		file  string
+		count string
+	}{
+		{"las/simple.las", "1065"},       // las/PROVENANCE.md: 1065 points
+		{"las/test1_4.las", "1000"},      // LAS 1.4, point format 6, 1000 points
+		{"e57/bunnyDouble.e57", "30571"}, // e57/PROVENANCE.md: 30571-point bunny
+		{"ply/bun000.ply", "40256"},      // ply/PROVENANCE.md: 40256 vertices
+	} {
+		t.Run(tc.file, func(t *testing.T) {
+			p := filepath.Join(ref, tc.file)
+			if _, err := os.Stat(p); err != nil {
+				t.Skipf("%s absent (../shared/reference not here): %v", p, err)
+			}
+			code, stdout, stderr := runArgs(t, "inspect", p)
+			if code != exitOK {
+				t.Fatalf("inspect exit %d: %s", code, stderr)
+			}
+			if !strings.Contains(stdout, "records    "+tc.count+" (0 rejected)") {
+				t.Errorf("inspect %s:\n%s\nwant %s records", tc.file, stdout, tc.count)
+			}
+		})
+	}
+}
