@@ -282,7 +282,7 @@ func (r *csvReader) setColumns(names []string, fromHeader bool, line int) error 
 				base, unit := headerName(key)
 				saidXY = saidXY || fromHeader && (base == "x" || base == "y")
 				if u, err := ParseUnit(unit); fromHeader && unit != "" && err == nil && u.Metres != r.unit.Metres && unitClash == "" && (role == roleE || role == roleN || role == roleZ) {
-					unitClash = fmt.Sprintf("the header gives %q in %s but the unit in use is %s: pass --unit %s if the header is right", key, u.Name, r.unit.Name, u.Name)
+					unitClash = fmt.Sprintf("the header gives %q in %s but the unit in use is %s: pass --units %s if the header is right", key, u.Name, r.unit.Name, u.Name)
 				}
 				continue
 			}

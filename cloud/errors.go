@@ -87,7 +87,7 @@ func (e *ParseError) Unwrap() error { return e.Err }
 func hint(err error) string {
 	switch {
 	case errors.Is(err, ErrTooManyRejected):
-		return "check the delimiter, the decimal separator, --unit and the column order; name the columns with --columns if needed"
+		return "check the delimiter, the decimal separator, --units and the column order; name the columns with --columns if needed"
 	case errors.Is(err, ErrMissingColumn):
 		return "name the columns with --columns, e.g. --columns id,n,e,z,code"
 	case errors.Is(err, ErrFieldCount):
@@ -95,7 +95,7 @@ func hint(err error) string {
 	case errors.Is(err, ErrNumber), errors.Is(err, ErrNotFinite):
 		return "correct the value or comment the line out with #"
 	case errors.Is(err, ErrRange):
-		return "check --unit and the column order"
+		return "check --units and the column order"
 	}
 	return ""
 }

@@ -866,7 +866,7 @@ func archiveReadPoints(path string, unit cloud.Unit, cols []string) ([]r3.Vec, c
 			break
 		}
 		if err != nil {
-			return nil, info, 0, fmt.Errorf("%s: %w", path, err)
+			return nil, info, 0, withFile(path, err)
 		}
 		for i := range c.P {
 			if c.Reject[i] != "" {

@@ -363,7 +363,7 @@ func runPass(c *checkConfig, opts cloud.Options, d *deviation.Design, sinks []de
 	err := deviation.Run(inputs, d, sinks, deviation.RunOptions{Workers: c.workers, Progress: prog, Enrich: enrich})
 	var se *deviation.SourceError
 	if errors.As(err, &se) {
-		return fmt.Errorf("%s: %w", c.points[se.Source], se.Err)
+		return withFile(c.points[se.Source], se.Err)
 	}
 	return err
 }

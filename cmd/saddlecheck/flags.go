@@ -59,3 +59,12 @@ func isTerminal(w io.Writer) bool {
 	st, err := f.Stat()
 	return err == nil && st.Mode()&os.ModeCharDevice != 0
 }
+
+// withFile names the file in err unless the error (typed errors of the
+// readers do) already names it.
+func withFile(path string, err error) error {
+	if err == nil || strings.Contains(err.Error(), path) {
+		return err
+	}
+	return fmt.Errorf("%s: %w", path, err)
+}

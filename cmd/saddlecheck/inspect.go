@@ -56,7 +56,7 @@ func runInspect(args []string, stdout, stderr io.Writer) error {
 		s, err := cloud.Scan(r)
 		r.Close()
 		if err != nil {
-			return fmt.Errorf("%s: %w", path, err)
+			return withFile(path, err)
 		}
 		in := s.Info
 		fmt.Fprintf(stdout, "%s\n", path)
