@@ -358,11 +358,13 @@ func BenchmarkClassify(b *testing.B) {
 		pts[i] = r3.Add(pt.Param(rng.Float64(), rng.Float64()), r3.Vec{Z: 0.01 * rng.NormFloat64()})
 	}
 	b.ReportAllocs()
+	b.ResetTimer()
+	c0, ok := processCPU()
 	var sum float64
 	for i := 0; i < b.N; i++ {
 		_, pr, _ := d.Classify(pts[i&(len(pts)-1)])
 		sum += pr.D
 	}
 	sinkD = sum
-	b.ReportMetric(float64(b.N)/b.Elapsed().Seconds(), "points/s")
+	reportRates(b, c0, ok, b.N)
 }

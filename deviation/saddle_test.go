@@ -5,6 +5,7 @@ import (
 	"math/rand/v2"
 	"strings"
 	"testing"
+	"time"
 
 	"gonum.org/v1/gonum/spatial/r3"
 )
@@ -405,10 +406,11 @@ func BenchmarkSaddleDistances(b *testing.B) {
 	dst := make([]float64, len(pts))
 	b.ReportAllocs()
 	b.ResetTimer()
+	c0, ok := processCPU()
 	for i := 0; i < b.N; i++ {
 		s.Distances(dst, pts)
 	}
-	b.ReportMetric(float64(b.N)*float64(len(pts))/b.Elapsed().Seconds(), "points/s")
+	reportRates(b, c0, ok, b.N*len(pts))
 }
 
 // benchPoints returns n survey-like points within ±5 cm of a 40 m × 40 m
@@ -432,21 +434,25 @@ func benchSaddle() *Saddle {
 var sinkD float64
 
 // BenchmarkSaddleProject measures Project (frame transform, solver, normal)
-// on survey-like points; points/s is the figure to compare.
+// on survey-like points; points/s is the figure to compare, and
+// cpu-ns/op (process CPU time per point, all threads) the one that stays
+// meaningful on a machine shared with other work.
 func BenchmarkSaddleProject(b *testing.B) {
 	s := benchSaddle()
 	pts := benchPoints(s, 1<<14)
 	b.Run("serial", func(b *testing.B) {
 		b.ReportAllocs()
+		c0, ok := processCPU()
 		var sum float64
 		for i := 0; i < b.N; i++ {
 			sum += s.Project(pts[i&(len(pts)-1)]).D
 		}
 		sinkD = sum
-		b.ReportMetric(float64(b.N)/b.Elapsed().Seconds(), "points/s")
+		reportRates(b, c0, ok, b.N)
 	})
 	b.Run("parallel", func(b *testing.B) {
 		b.ReportAllocs()
+		c0, ok := processCPU()
 		b.RunParallel(func(pb *testing.PB) {
 			var sum float64
 			i := 0
@@ -456,8 +462,17 @@ func BenchmarkSaddleProject(b *testing.B) {
 			}
 			_ = sum
 		})
-		b.ReportMetric(float64(b.N)/b.Elapsed().Seconds(), "points/s")
+		reportRates(b, c0, ok, b.N)
 	})
+}
+
+// reportRates adds points/s (wall clock) and cpu-ns/op (process CPU time
+// since c0 over n points) to a benchmark.
+func reportRates(b *testing.B, c0 time.Duration, ok bool, n int) {
+	b.ReportMetric(float64(n)/b.Elapsed().Seconds(), "points/s")
+	if c1, ok1 := processCPU(); ok && ok1 && n > 0 {
+		b.ReportMetric(float64(c1-c0)/float64(n), "cpu-ns/op")
+	}
 }
 
 // Sweep size and seed (raised locally for longer searches).
