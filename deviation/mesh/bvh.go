@@ -326,7 +326,7 @@ type hit struct {
 	feat int8
 }
 
-// better orders candidates by distance, then by triangle index, so that
+// consider orders candidates by distance, then by triangle index, so that
 // the answer does not depend on the visiting order.
 func (h *hit) consider(q r3.Vec, t int32, m *Mesh) {
 	f3 := &m.vid[t]
@@ -340,7 +340,10 @@ func (h *hit) consider(q r3.Vec, t int32, m *Mesh) {
 // nearest finds the closest triangle to the local point q by a
 // nearest-first descent: at each node the nearer child is entered and the
 // farther one stacked with its box distance; stacked nodes farther than
-// the best distance so far are skipped.
+// the best distance so far are skipped, and so are stacked nodes and
+// leaves whose bounding disk is farther (see disk). Every bound is a
+// padded lower bound, and candidates are compared with ≤ and ordered by
+// (distance, index), so the result is bit for bit that of nearestBrute.
 func (m *Mesh) nearest(q r3.Vec) hit {
 	type entry struct {
 		n  int32
