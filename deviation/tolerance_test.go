@@ -7,6 +7,9 @@ import (
 )
 
 func TestToleranceBoundaries(t *testing.T) {
+	// Limits are inclusive, as in the decision table of FIELD.md §2
+	// (T_L ≤ d ≤ T_U conforms, with w = 0 here): |d| == limit conforms, and
+	// a value on a band edge belongs to the inner band.
 	tol := Tolerance{Source: "s", LimitM: 0.010, BandsM: []float64{0.005, 0.010, 0.020}}.WithDefaults()
 	tests := []struct {
 		dev      float64
