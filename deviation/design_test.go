@@ -368,3 +368,32 @@ func BenchmarkClassify(b *testing.B) {
 	sinkD = sum
 	reportRates(b, c0, ok, b.N)
 }
+
+func ExampleParseDesign() {
+	src := `structure: Demonstration roof
+units: mm
+normal: up
+offset_mm: 0
+patches:
+  - id: A
+    corners: [[0, 0, 0], [10000, 0, 0], [10000, 10000, 2000], [0, 10000, 0]]
+tolerance:
+  source: "Demonstration only"
+  limit_mm: 10
+  min_share: 0.95
+`
+	d, err := ParseDesign("roof.yaml", []byte(src), ".")
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	fmt.Println(d.Patches[0].Kind, d.Patches[0].Notes[0])
+	// z = 0.02·x·y: a point 12 mm vertically above the surface at
+	// (5 m, 5 m), where the slope is 0.1 along x and y, lies
+	// 12/√1.02 = 11.9 mm from it along the normal.
+	k, pr, st := d.Classify(r3.Vec{X: 5, Y: 5, Z: 0.5 + 0.012})
+	fmt.Printf("patch %s: %v, deviation %+.1f mm\n", d.Patches[k].ID, st, pr.D*1000)
+	// Output:
+	// corners saddle z = 0.01 x² -0.01 y² (1/m), saddle point (0.000, 0.000, 0.000) m
+	// patch A: used, deviation +11.9 mm
+}
