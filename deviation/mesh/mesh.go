@@ -86,6 +86,17 @@ func (m *Mesh) Bounds() (min, max r3.Vec) { return m.min, m.max }
 // Centre returns the internal origin (site frame).
 func (m *Mesh) Centre() r3.Vec { return m.centre }
 
+// Export returns the mesh as validated and oriented: vertices in the
+// site frame and triangles wound towards the positive side (in the
+// hierarchy's order), ready for WriteSTL.
+func (m *Mesh) Export() ([]r3.Vec, [][3]int32) {
+	v := make([]r3.Vec, len(m.vert))
+	for i, p := range m.vert {
+		v[i] = r3.Add(p, m.centre)
+	}
+	return v, slices.Clone(m.vid)
+}
+
 // SizeBytes returns the memory held by the mesh's slices.
 func (m *Mesh) SizeBytes() int {
 	return len(m.vert)*24 + len(m.vid)*12 + len(m.ring)*4 +

@@ -2,6 +2,8 @@ package mesh
 
 import (
 	"errors"
+	"fmt"
+	"sync"
 	"math"
 	"strings"
 	"testing"
@@ -324,5 +326,40 @@ func TestProjectDoesNotAllocate(t *testing.T) {
 	}
 	if pr := m.Project(r3.Add(siteOffset, r3.Vec{Z: 1e7})); math.Abs(pr.D-(1e7-1)) > 1e-6 {
 		t.Errorf("far point: got D %v, want %v", pr.D, 1e7-1)
+	}
+}
+
+// TestProjectConcurrent compares Project from several goroutines with
+// serial results (run with -race to check for data races).
+func TestProjectConcurrent(t *testing.T) {
+	v, f := icosphere(3, 1, siteOffset)
+	m, _ := mustNew(t, v, f, Options{})
+	g := lcg(3)
+	pts := make([]r3.Vec, 2000)
+	for i := range pts {
+		pts[i] = r3.Add(siteOffset, r3.Scale(g.in(0.5, 1.5), g.unit()))
+	}
+	want := make([]float64, len(pts))
+	for i, p := range pts {
+		want[i] = m.Project(p).D
+	}
+	var wg sync.WaitGroup
+	errs := make(chan string, 4)
+	for w := range 4 {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := w; i < len(pts); i += 4 {
+				if d := m.Project(pts[i]).D; d != want[i] {
+					errs <- fmt.Sprintf("point %d: got %v concurrently, %v serially", i, d, want[i])
+					return
+				}
+			}
+		}()
+	}
+	wg.Wait()
+	close(errs)
+	for e := range errs {
+		t.Error(e)
 	}
 }
