@@ -17,6 +17,7 @@ import (
 	"gonum.org/v1/gonum/spatial/r3"
 
 	"saddlecheck/cloud"
+	"saddlecheck/uncert"
 )
 
 // Design is a parsed design file: the design surface of a shell, in
@@ -36,7 +37,11 @@ type Design struct {
 	MarginM   float64
 	Patches   []Patch
 	Tolerance Tolerance
-	Warnings  []string
+	// Uncertainty is the measurement model of the `uncertainty:` section
+	// (package uncert), applied to every input that has none of its own;
+	// nil when the section is absent.
+	Uncertainty *uncert.Model
+	Warnings    []string
 }
 
 // Patch is one design patch.
@@ -347,7 +352,7 @@ func (p *parser) corners(n *yaml.Node, key string) ([4]r3.Vec, error) {
 }
 
 var (
-	topKeys       = []string{"structure", "units", "normal", "offset_mm", "margin_m", "patches", "tolerance"}
+	topKeys       = []string{"structure", "units", "normal", "offset_mm", "margin_m", "patches", "tolerance", "uncertainty"}
 	patchKeys     = []string{"id", "corners", "saddle", "mesh", "origin", "margin_m", "notes"}
 	saddleKeys    = []string{"k1", "k2", "origin", "axes"}
 	toleranceKeys = []string{"source", "limit_mm", "min_share", "max_abs_mm", "bands_mm", "far_mm"}
@@ -401,6 +406,17 @@ func (p *parser) design(root *yaml.Node) (*Design, error) {
 	}
 	if d.Tolerance, err = p.tolerance(m["tolerance"]); err != nil {
 		return nil, err
+	}
+	if n, ok := m["uncertainty"]; ok {
+		um, err := uncert.DecodeModel(n)
+		if err != nil {
+			var le *uncert.LineError
+			if errors.As(err, &le) {
+				return nil, p.errAt(le.Line, 0, "", errors.New(le.Msg))
+			}
+			return nil, p.errNode(n, "uncertainty", "%v", err)
+		}
+		d.Uncertainty = &um
 	}
 	if math.Abs(d.OffsetM) >= d.Tolerance.FarM {
 		return nil, p.errNode(m["offset_mm"], "offset_mm", "offset %g mm is not smaller than far_mm %g", d.OffsetM*1000, d.Tolerance.FarM*1000)

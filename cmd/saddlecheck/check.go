@@ -427,6 +427,8 @@ func uncertaintyFor(c *checkConfig, d *deviation.Design, stderr io.Writer) (*dev
 			}
 			models = append(models, m)
 		}
+	case d.Uncertainty != nil:
+		models = []*uncert.Model{d.Uncertainty}
 	default:
 		if c.rule != "" || c.k != 0 {
 			return nil, uncert.Rule{}, nil, usageErr(stderr, "check", "--rule and --k need an uncertainty model (--uncertainty FILE or --u-mm X)")

@@ -349,3 +349,34 @@ func TestInspectSharedFormats(t *testing.T) {
 		})
 	}
 }
+
+// TestDesignUncertaintySection: the design file's uncertainty section
+// applies when no --uncertainty is given (same ISO 14253-1 guarded rule
+// check as above: 9.8 mm with u = 3 mm, k = 2, against 10 mm is
+// inconclusive), and a bad key in it is an error naming the line.
+func TestDesignUncertaintySection(t *testing.T) {
+	dir := t.TempDir()
+	design, points := hyparFixture(t, dir, []float64{0.0098, 0.002})
+	b, _ := os.ReadFile(design)
+	good := string(b) + "uncertainty:\n  instrument:\n    kind: plain\n    sigma_mm: 3\n"
+	os.WriteFile(design, []byte(good), 0o644)
+	out := filepath.Join(dir, "out")
+	if code, _, stderr := runArgs(t, "check", "--design", design, "--points", points, "--out", out, "--no-fit"); code != exitVerdict {
+		t.Fatalf("exit %d, want 1 (inconclusive): %s", code, stderr)
+	}
+	var s struct {
+		Verdict     string
+		Uncertainty *struct{ Zones map[string]int }
+	}
+	raw, _ := os.ReadFile(filepath.Join(out, "summary.json"))
+	json.Unmarshal(raw, &s)
+	if s.Verdict != "inconclusive" || s.Uncertainty == nil || s.Uncertainty.Zones["inconclusive"] != 1 || s.Uncertainty.Zones["conforming"] != 1 {
+		t.Errorf("verdict %q, uncertainty %+v", s.Verdict, s.Uncertainty)
+	}
+	lines := strings.Count(good, "\n")
+	os.WriteFile(design, []byte(good+"  colour: 1\n"), 0o644)
+	code, _, stderr := runArgs(t, "check", "--design", design, "--points", points, "--out", out)
+	if code != exitUsage || !strings.Contains(stderr, fmt.Sprintf(":%d:", lines+1)) || !strings.Contains(stderr, "colour") {
+		t.Errorf("exit %d, stderr %q: want 2 and the line %d named", code, stderr, lines+1)
+	}
+}
