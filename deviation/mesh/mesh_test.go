@@ -3,9 +3,9 @@ package mesh
 import (
 	"errors"
 	"fmt"
-	"sync"
 	"math"
 	"strings"
+	"sync"
 	"testing"
 
 	"gonum.org/v1/gonum/spatial/r3"
