@@ -356,7 +356,9 @@ func (m *Mesh) nearest(q r3.Vec) hit {
 	for {
 		nd := &m.nodes[n]
 		if nd.count > 0 {
-			if m.disks[n].dist2(q) <= best.d2 {
+			// The first leaf reached is always searched: no need to load
+			// its disk.
+			if best.tri == noTriangle || m.disks[n].dist2(q) <= best.d2 {
 				for t := nd.first; t < nd.first+nd.count; t++ {
 					best.consider(q, t, m)
 				}
