@@ -61,9 +61,6 @@ func Build(c *deviation.Collector, d *deviation.Design) *Summary {
 		ps := c.Patches[i].Summary(t)
 		row := Patch{ID: p.ID, Kind: p.Kind, Stats: stats(ps), Verdict: verdicts[i].String()}
 		s.Patches = append(s.Patches, row)
-		for _, w := range p.Warnings {
-			s.Warnings = append(s.Warnings, "patch "+p.ID+": "+w)
-		}
 		for _, n := range p.Notes {
 			s.Design.Notes = append(s.Design.Notes, "patch "+p.ID+": "+n)
 		}

@@ -147,7 +147,13 @@ func check(c *checkConfig, stdout, stderr io.Writer) error {
 	var asBuilt *fit.AsBuilt
 	var abIn []report.AsBuiltInput
 	var fitS float64
-	if !c.noFit {
+	fittable := false
+	for k := range d.Patches {
+		if _, ok := deviation.DesignSaddle(&d.Patches[k]); ok {
+			fittable = true
+		}
+	}
+	if !c.noFit && fittable {
 		tFit := time.Now()
 		progLabel = "sampling for the as-built fit:"
 		sampler := deviation.NewSampler(d, fitSample, c.seed)
@@ -175,7 +181,7 @@ func check(c *checkConfig, stdout, stderr io.Writer) error {
 		return err
 	}
 	var decision *deviation.Decision
-	csvOpt := report.PointCSVOptions{Fit: !c.noFit}
+	csvOpt := report.PointCSVOptions{Fit: asBuilt != nil}
 	if unc != nil {
 		decision = deviation.NewDecision(d.Tolerance, rule)
 		csvOpt.Uncertainty = true
