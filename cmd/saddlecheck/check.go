@@ -308,8 +308,12 @@ func check(c *checkConfig, stdout, stderr io.Writer) error {
 	fmt.Fprintf(stdout, "%s: %s — %d points read, %d used, %d outside, %d far, %d rejected\n",
 		s.Structure, s.Verdict, s.PointsRead, s.PointsUsed, s.PointsOutside, s.PointsFar, s.PointsRejected)
 	for _, p := range s.Patches {
-		fmt.Fprintf(stdout, "  patch %-8s n=%-7d mean %+6.1f mm  RMS %5.1f mm  max|d| %5.1f mm  within ±%g mm %5.1f %%  %s\n",
-			p.ID, p.N, p.MeanMM, p.RMSMM, p.MaxAbsMM, s.Tolerance.LimitMM, 100*p.ShareWithinLimit, p.Verdict)
+		fmt.Fprintf(stdout, "  patch %-8s n=%-7d mean %+6.1f mm  RMS %5.1f mm  max|d| %5.1f mm  within ±%g mm %5.1f %%",
+			p.ID, p.N, p.MeanMM, p.RMSMM, p.MaxAbsMM, s.Tolerance.LimitMM, 100*p.ShareWithinLimit)
+		if z := p.Zones; z != nil {
+			fmt.Fprintf(stdout, "  proven conforming %d, inconclusive %d, proven nonconforming %d", z.Conforming, z.Inconclusive, z.Nonconforming)
+		}
+		fmt.Fprintf(stdout, "  %s\n", p.Verdict)
 	}
 	fmt.Fprintf(stdout, "report: %s\n", filepath.Join(c.out, "report.html"))
 	if s.Verdict != "conforming" {

@@ -144,6 +144,22 @@ func writeDemoInputs(dir string) (designPath, shotsPath string, err error) {
   bands_mm: [5, 10, 20]
   far_mm: 150
 `)
+	// The survey: one total-station setup south-west of the canopy,
+	// reflectorless shots on the soffit (typical spec-sheet figures).
+	fmt.Fprintf(&y, `uncertainty:
+  instrument:
+    kind: total-station
+    angle_arcsec: 2
+    distance_mm: 2
+    distance_ppm: 2
+    distance_combine: linear
+    centring_mm: 0.5
+    stations:
+      - {id: ST1, e: %.3f, n: %.3f, h: 0.350, instrument_height: 1.550}
+  control_mm: 1.5
+  surface_mm: 0.5
+  decision: {rule: guarded, k: 2}
+`, demoE0-14.0, demoN0-11.0)
 	designPath = filepath.Join(dir, "design.yaml")
 	if err := report.WriteFile(designPath, []byte(y.String())); err != nil {
 		return "", "", err
