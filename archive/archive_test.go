@@ -319,7 +319,7 @@ func sortedByDate(es []Epoch) []Epoch {
 func TestGCAndCheck(t *testing.T) {
 	a := newArchive(t)
 	src := t.TempDir()
-	st, err := a.AddStructure("Orchard Row pavilion", writeFile(t, src, "d.yaml", []byte("design")))
+	st, err := a.AddStructure("Orchard Row kiosk roof", writeFile(t, src, "d.yaml", []byte("design")))
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -37,7 +37,7 @@ patch is fitted from the design pose, and compared with the design
 also the fitted surface over the data's extent as a binary STL.
 
 Example:
-  saddlecheck fit --points pavilion-scan.ply --out pavilion-fit --stl pavilion-asbuilt.stl
+  saddlecheck fit --points kiosk-roof-scan.ply --out kiosk-roof-fit --stl kiosk-roof-asbuilt.stl
   saddlecheck fit --points shots.csv --design canopy.yaml --out canopy-fit
 `
 
