@@ -9,6 +9,8 @@ import (
 	"time"
 
 	"gonum.org/v1/gonum/spatial/r3"
+
+	"saddlecheck/deviation"
 )
 
 // benchSaddle is a 30 m × 30 m patch of z = x²/144 − y²/81 at site
@@ -121,4 +123,26 @@ func TestPeerDesignMesh(t *testing.T) {
 		t.Fatal(err)
 	}
 	t.Logf("%d triangles in %v; %.1f B/triangle; notes %q; warnings %q", m.Triangles(), time.Since(t0), rep.BytesPerTriangle, rep.Notes, rep.Warnings)
+}
+
+// BenchmarkMeshProjectAll is BenchmarkMeshProject through ProjectAll in
+// chunks of 65,536 points, one chunk per goroutine at a time.
+func BenchmarkMeshProjectAll(b *testing.B) {
+	v, f := benchOnce()
+	m, rep := mustNew(b, v, f, Options{NormalUp: true})
+	const chunk = 1 << 16
+	pts := benchPoints(chunk)
+	b.ReportAllocs()
+	start := time.Now()
+	var done atomic.Int64
+	b.ResetTimer()
+	b.RunParallel(func(pb *testing.PB) {
+		dst := make([]deviation.Projection, chunk)
+		for pb.Next() {
+			m.ProjectAll(dst, pts)
+			done.Add(chunk)
+		}
+	})
+	b.ReportMetric(float64(done.Load())/time.Since(start).Seconds(), "points/s")
+	b.ReportMetric(rep.BytesPerTriangle, "B/triangle")
 }

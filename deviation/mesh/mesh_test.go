@@ -9,6 +9,8 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/spatial/r3"
+
+	"saddlecheck/deviation"
 )
 
 // Tolerances of the tests.
@@ -361,5 +363,24 @@ func TestProjectConcurrent(t *testing.T) {
 	close(errs)
 	for e := range errs {
 		t.Error(e)
+	}
+}
+
+func TestProjectAllMatchesProject(t *testing.T) {
+	v, f := grid(30, 30, func(x, y float64) float64 { return x*x/144 - y*y/81 }, siteOffset)
+	m, _ := mustNew(t, v, f, Options{NormalUp: true})
+	g := lcg(11)
+	pts := make([]r3.Vec, 5000)
+	for i := range pts {
+		pts[i] = r3.Add(siteOffset, r3.Vec{X: g.in(-5, 35), Y: g.in(-5, 35), Z: g.in(-10, 15)})
+	}
+	pts[17].X = math.NaN()
+	dst := make([]deviation.Projection, len(pts))
+	m.ProjectAll(dst, pts)
+	for i, p := range pts {
+		want := m.Project(p)
+		if dst[i] != want && !(math.IsNaN(want.D) && math.IsNaN(dst[i].D)) {
+			t.Fatalf("point %d: got %+v, want %+v", i, dst[i], want)
+		}
 	}
 }

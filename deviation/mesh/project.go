@@ -85,3 +85,64 @@ func (m *Mesh) projection(q r3.Vec, h hit) deviation.Projection {
 	}
 	return deviation.Projection{D: d, Foot: r3.Add(h.foot, m.centre), Normal: n, Inside: inside}
 }
+
+// ProjectAll sets dst[i] = m.Project(pts[i]) for every point (dst must be
+// at least as long as pts). It visits the points bucket by bucket over a
+// plan grid of the mesh's two longest box axes (a counting sort, O(n)),
+// so that consecutive queries share the same parts of the hierarchy in
+// cache: on shuffled scans this is markedly faster than calling Project
+// in input order. The answers are identical. It allocates scratch of
+// about 4 bytes per point and per bucket, never per point individually,
+// and is safe for concurrent use on disjoint dst.
+func (m *Mesh) ProjectAll(dst []deviation.Projection, pts []r3.Vec) {
+	if len(dst) < len(pts) {
+		panic("mesh: ProjectAll destination shorter than the points")
+	}
+	if len(pts) < 64 {
+		for i, p := range pts {
+			dst[i] = m.Project(p)
+		}
+		return
+	}
+	// Plan axes: the two longest sides of the box.
+	ext := r3.Sub(m.max, m.min)
+	e := [3]float64{ext.X, ext.Y, ext.Z}
+	a0, a1 := 0, 1
+	switch {
+	case e[2] > e[0] && e[1] >= e[0]:
+		a0, a1 = 1, 2
+	case e[2] > e[1]:
+		a0, a1 = 0, 2
+	}
+	lo := [3]float64{m.min.X, m.min.Y, m.min.Z}
+	// About eight triangles per bucket, at most 1024 per side.
+	g := int(math.Sqrt(float64(len(m.vid)) / 8))
+	g = max(1, min(g, 1024, int(math.Sqrt(float64(len(pts))))+1))
+	s0, s1 := float64(g)/max(e[a0], 1e-300), float64(g)/max(e[a1], 1e-300)
+	clamp := func(x float64) int { // NaN and below 0 go to 0
+		if !(x >= 0) {
+			return 0
+		}
+		return int(min(x, float64(g-1)))
+	}
+	cell := func(p r3.Vec) int {
+		c := [3]float64{p.X, p.Y, p.Z}
+		return clamp((c[a0]-lo[a0])*s0)*g + clamp((c[a1]-lo[a1])*s1)
+	}
+	start := make([]int32, g*g+1)
+	for _, p := range pts {
+		start[cell(p)+1]++
+	}
+	for k := 1; k < len(start); k++ {
+		start[k] += start[k-1]
+	}
+	order := make([]int32, len(pts))
+	for i, p := range pts {
+		c := cell(p)
+		order[start[c]] = int32(i)
+		start[c]++
+	}
+	for _, i := range order {
+		dst[i] = m.Project(pts[i])
+	}
+}
