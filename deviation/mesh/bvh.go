@@ -462,13 +462,13 @@ func (m *Mesh) leafDisk(s, e int32, pad float64) disk {
 	d.n = [3]float32{float32(n.X), float32(n.Y), float32(n.Z)}
 	c = r3.Vec{X: float64(d.c[0]), Y: float64(d.c[1]), Z: float64(d.c[2])}
 	n = r3.Vec{X: float64(d.n[0]), Y: float64(d.n[1]), Z: float64(d.n[2])}
+	n = r3.Scale(1/math.Sqrt(r3.Dot(n, n)), n) // as dist2 normalises it
 	rr, tt := 0.0, 0.0
-	nn := r3.Dot(n, n)
 	for t := s; t < e; t++ {
 		for _, v := range m.corners(t) {
 			w := r3.Sub(v, c)
-			z := r3.Dot(w, n) / nn
-			tt = max(tt, math.Abs(z)*math.Sqrt(nn))
+			z := r3.Dot(w, n)
+			tt = max(tt, math.Abs(z))
 			rr = max(rr, norm(r3.Sub(w, r3.Scale(z, n))))
 		}
 	}
@@ -478,15 +478,19 @@ func (m *Mesh) leafDisk(s, e int32, pad float64) disk {
 
 // dist2 is the squared distance from q to the solid cylinder,
 //
-//	max(0, ρ − r)² + max(0, |z| − t)²,   z = n·(q − c)/|n|, ρ² = |q − c|² − z²,
+//	max(0, ρ − r)² + max(0, |z| − t)²,   z = n̂·(q − c),  ρ = |(q − c) − z·n̂|,
 //
-// a lower bound of the distance to anything inside it.
+// a lower bound of the distance to anything inside it. ρ is taken from
+// the tangential vector itself rather than from |q − c|² − z², which
+// would cancel catastrophically for points far along the axis.
 func (d *disk) dist2(q r3.Vec) float64 {
 	wx, wy, wz := q.X-float64(d.c[0]), q.Y-float64(d.c[1]), q.Z-float64(d.c[2])
 	nx, ny, nz := float64(d.n[0]), float64(d.n[1]), float64(d.n[2])
-	z := (wx*nx + wy*ny + wz*nz) / math.Sqrt(nx*nx+ny*ny+nz*nz)
-	w2 := wx*wx + wy*wy + wz*wz
-	rho := math.Sqrt(max(w2-z*z, 0))
+	inv := 1 / math.Sqrt(nx*nx+ny*ny+nz*nz)
+	nx, ny, nz = nx*inv, ny*inv, nz*inv
+	z := wx*nx + wy*ny + wz*nz
+	tx, ty, tz := wx-z*nx, wy-z*ny, wz-z*nz
+	rho := math.Sqrt(tx*tx + ty*ty + tz*tz)
 	out := 0.0
 	if v := rho - float64(d.r); v > 0 {
 		out = v * v

@@ -38,6 +38,11 @@
 // 75 bytes per triangle for a typical design mesh (0.5 vertex per
 // triangle).
 //
+// Project answers one point; ProjectAll answers a slice with the same
+// results, visiting the points bucket by bucket over a plan grid so that
+// consecutive queries share cached parts of the hierarchy (about twice
+// the throughput on shuffled scans).
+//
 // A point whose closest point lies on a boundary edge or boundary vertex
 // lies beyond the design's extent: its projection has Inside = false
 // (unless Options.MarginM admits it).

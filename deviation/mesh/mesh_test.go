@@ -234,6 +234,9 @@ func TestBVHMatchesBruteForce(t *testing.T) {
 				if i%10 == 0 { // exactly on grid coordinates
 					p = r3.Vec{X: math.Round(p.X), Y: math.Round(p.Y), Z: math.Round(p.Z)}
 				}
+				if i%50 == 1 { // far away, 10 km to 100 km
+					p = r3.Add(tc.c, r3.Scale(g.in(1e4, 1e5), g.unit()))
+				}
 				q := r3.Sub(p, m.centre)
 				got, want := m.nearest(q), m.nearestBrute(q)
 				if got != want {
