@@ -34,7 +34,7 @@ type Report struct {
 	Duplicate           int // triangles with the same three vertices as an earlier one, dropped
 	BoundaryEdges       int // edges used by exactly one triangle
 	NonManifoldEdges    int // edges used by more than two triangles
-	Components          int // edge-connected components
+	Components          int // components connected through edges shared by exactly two triangles
 	ClosedComponents    int // components without boundary edges
 	Reoriented          int // triangles whose winding was reversed
 	Welded              int // vertices merged by the loader (0 from New)

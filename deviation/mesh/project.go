@@ -87,7 +87,7 @@ func (m *Mesh) projection(q r3.Vec, h hit) deviation.Projection {
 }
 
 // ProjectAll sets dst[i] = m.Project(pts[i]) for every point (dst must be
-// at least as long as pts). It visits the points bucket by bucket over a
+// at least as long as pts; it panics otherwise). It visits the points bucket by bucket over a
 // plan grid of the mesh's two longest box axes (a counting sort, O(n)),
 // so that consecutive queries share the same parts of the hierarchy in
 // cache: on shuffled scans this is markedly faster than calling Project
