@@ -167,34 +167,49 @@ func (b *builder) split(ni int, s, e int32, depth int) {
 
 // sahCut returns the best split plane (axis, coordinate), −2 when a leaf
 // is cheaper than any split of at most maxLeaf triangles, or −1 when the
-// centroids do not spread.
+// centroids do not spread. One pass over the triangles fills the bins of
+// all three axes.
 func (b *builder) sahCut(s, e int32, clo, chi r3.Vec, area float64) (int, float64) {
 	n := e - s
+	var bins [3][sahBins]bin
+	var c0, scale [3]float64
+	spread := false
+	for axis := range 3 {
+		lo, hi := comp(clo, axis), comp(chi, axis)
+		if hi > lo {
+			c0[axis], scale[axis] = lo, sahBins/(hi-lo)
+			spread = true
+		}
+		for k := range sahBins {
+			bins[axis][k].lo, bins[axis][k].hi = emptyBox()
+		}
+	}
+	if !spread {
+		return -1, 0
+	}
+	for _, i := range b.idx[s:e] {
+		t := &b.bt[i]
+		c := [3]float64{t.c.X, t.c.Y, t.c.Z}
+		for axis := range 3 {
+			k := min(int((c[axis]-c0[axis])*scale[axis]), sahBins-1)
+			bn := &bins[axis][k]
+			bn.lo, bn.hi = minVec(bn.lo, t.lo), maxVec(bn.hi, t.hi)
+			bn.n++
+		}
+	}
 	bestCost, bestAxis, bestCut := math.Inf(1), -1, 0.0
-	var bins [sahBins]bin
 	var rightArea [sahBins]float64
 	var rightN [sahBins]int
 	for axis := range 3 {
-		c0, c1 := comp(clo, axis), comp(chi, axis)
-		if !(c1 > c0) {
+		if scale[axis] == 0 {
 			continue
 		}
-		scale := sahBins / (c1 - c0)
-		for k := range bins {
-			bins[k].lo, bins[k].hi = emptyBox()
-			bins[k].n = 0
-		}
-		for _, i := range b.idx[s:e] {
-			t := &b.bt[i]
-			k := min(int((comp(t.c, axis)-c0)*scale), sahBins-1)
-			bins[k].lo, bins[k].hi = minVec(bins[k].lo, t.lo), maxVec(bins[k].hi, t.hi)
-			bins[k].n++
-		}
+		bs := &bins[axis]
 		lo, hi := emptyBox()
 		cnt := 0
 		for k := sahBins - 1; k > 0; k-- {
-			lo, hi = minVec(lo, bins[k].lo), maxVec(hi, bins[k].hi)
-			cnt += bins[k].n
+			lo, hi = minVec(lo, bs[k].lo), maxVec(hi, bs[k].hi)
+			cnt += bs[k].n
 			rightN[k], rightArea[k] = cnt, 0
 			if cnt > 0 {
 				rightArea[k] = halfArea(lo, hi)
@@ -203,14 +218,14 @@ func (b *builder) sahCut(s, e int32, clo, chi r3.Vec, area float64) (int, float6
 		lo, hi = emptyBox()
 		cnt = 0
 		for k := 0; k < sahBins-1; k++ {
-			lo, hi = minVec(lo, bins[k].lo), maxVec(hi, bins[k].hi)
-			cnt += bins[k].n
+			lo, hi = minVec(lo, bs[k].lo), maxVec(hi, bs[k].hi)
+			cnt += bs[k].n
 			if cnt == 0 || rightN[k+1] == 0 {
 				continue
 			}
 			cost := float64(cnt)*halfArea(lo, hi) + float64(rightN[k+1])*rightArea[k+1]
 			if cost < bestCost {
-				bestCost, bestAxis, bestCut = cost, axis, c0+float64(k+1)/scale
+				bestCost, bestAxis, bestCut = cost, axis, c0[axis]+float64(k+1)/scale[axis]
 			}
 		}
 	}

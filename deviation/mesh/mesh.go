@@ -257,10 +257,38 @@ func halfEdges(vid [][3]int32) []halfEdge {
 			he[3*t+k] = halfEdge{uint64(a)<<32 | uint64(b), int32(3*t + k)}
 		}
 	}
-	// Within an edge the order of half-edges is immaterial (and
-	// deterministic: the sort is).
-	slices.SortFunc(he, func(x, y halfEdge) int { return cmp.Compare(x.key, y.key) })
-	return he
+	return radixSort(he)
+}
+
+// radixSort sorts half-edges by key, least significant byte first
+// (stable, so equal keys keep their half-edge order), skipping bytes
+// that all keys share. O(n) per pass against O(n log n) comparisons.
+func radixSort(a []halfEdge) []halfEdge {
+	var or, and uint64 = 0, ^uint64(0)
+	for _, e := range a {
+		or |= e.key
+		and &= e.key
+	}
+	tmp := make([]halfEdge, len(a))
+	for shift := uint(0); shift < 64; shift += 8 {
+		if (or^and)>>shift&0xff == 0 {
+			continue // every key has the same byte here
+		}
+		var count [257]int
+		for _, e := range a {
+			count[e.key>>shift&0xff+1]++
+		}
+		for i := 1; i < len(count); i++ {
+			count[i] += count[i-1]
+		}
+		for _, e := range a {
+			b := e.key >> shift & 0xff
+			tmp[count[b]] = e
+			count[b]++
+		}
+		a, tmp = tmp, a
+	}
+	return a
 }
 
 // buildRing links the half-edges of each undirected edge in a cycle.
