@@ -168,7 +168,7 @@ func New(vertices []r3.Vec, tris [][3]int32, opt Options) (*Mesh, *Report, error
 		rep.note("%d boundary edges: points beyond them are outside the patch", rep.BoundaryEdges)
 	}
 	if rep.Reoriented > 0 {
-		rep.note("%d triangles had their winding reversed to orient the surface consistently", rep.Reoriented)
+		rep.note("%d triangles had their winding reversed (consistent orientation, towards the positive side)", rep.Reoriented)
 	}
 	if rep.Degenerate > 0 {
 		rep.warn("%d degenerate (zero-area) triangles dropped", rep.Degenerate)
