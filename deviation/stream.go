@@ -45,6 +45,8 @@ type Result struct {
 	Outlier []bool
 	// Seq is the 0-based sequence number of the chunk over all inputs.
 	Seq int
+	// proj is scratch for batch projection (see BatchSurface).
+	proj []Projection
 	// Encoded holds output bytes that encoders running as Enrichers (on
 	// the workers, in parallel) prepared for their sinks, one slot per
 	// encoder (see NextSlot); the sink then only writes them, in order.
@@ -249,6 +251,14 @@ func Run(inputs []Input, d *Design, sinks []Sink, opt RunOptions) error {
 	return nil
 }
 
+// BatchSurface is a Surface that projects many points at once faster than
+// one by one (the mesh visits them in an order that shares its hierarchy
+// in cache). ProjectAll must give exactly Project's answers.
+type BatchSurface interface {
+	Surface
+	ProjectAll(dst []Projection, pts []r3.Vec)
+}
+
 // measure classifies every record of r.Chunk against the design and runs
 // the enrichers.
 func measure(d *Design, r *Result, enrich []Enricher) {
@@ -258,6 +268,15 @@ func measure(d *Design, r *Result, enrich []Enricher) {
 		e.Prepare(r, n)
 	}
 	r.reset(n)
+	if len(d.Patches) == 1 {
+		if bs, ok := d.Patches[0].Surface.(BatchSurface); ok {
+			measureBatch(d, bs, r)
+			for _, e := range enrich {
+				e.Enrich(r)
+			}
+			return
+		}
+	}
 	nan := math.NaN()
 	for i := 0; i < n; i++ {
 		if c.Reject[i] != "" {
@@ -275,6 +294,39 @@ func measure(d *Design, r *Result, enrich []Enricher) {
 	}
 	for _, e := range enrich {
 		e.Enrich(r)
+	}
+}
+
+// measureBatch is measure for a design of one batch-capable patch. It gives
+// exactly Classify's answers for one patch: inside → used or far by
+// |D − offset|, else outside with the patch's own distance.
+func measureBatch(d *Design, bs BatchSurface, r *Result) {
+	c := r.Chunk
+	n := c.Len()
+	r.proj = resize(r.proj, n)
+	// rejected records carry the zero point; projecting it is harmless
+	bs.ProjectAll(r.proj, c.P)
+	far := d.Tolerance.FarM
+	if far == 0 {
+		far = DefaultFarM
+	}
+	nan := math.NaN()
+	for i := 0; i < n; i++ {
+		if c.Reject[i] != "" {
+			r.Patch[i], r.Dev[i], r.Normal[i], r.Status[i] = -1, nan, r3.Vec{}, StatusRejected
+			continue
+		}
+		pr := &r.proj[i]
+		dev := pr.D - d.OffsetM
+		r.Dev[i], r.Normal[i] = dev, pr.Normal
+		switch {
+		case !pr.Inside:
+			r.Patch[i], r.Status[i] = -1, StatusOutside
+		case math.Abs(dev) > far:
+			r.Patch[i], r.Status[i] = 0, StatusFar
+		default:
+			r.Patch[i], r.Status[i] = 0, StatusUsed
+		}
 	}
 }
 

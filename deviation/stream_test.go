@@ -4,6 +4,7 @@ import (
 	"errors"
 	"io"
 	"math"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/spatial/r3"
@@ -141,5 +142,56 @@ func TestRunErrors(t *testing.T) {
 	err = Run([]Input{{Reader: &fakeReader{n: 10000}, Source: 0}}, d, []Sink{&orderSink{failAt: 3}}, RunOptions{Workers: 3, ChunkSize: 16})
 	if err == nil || err.Error() != "sink full" {
 		t.Errorf("got %v, want the sink's error", err)
+	}
+}
+
+// batchPatch wraps a patch as a BatchSurface that projects one by one, to
+// check that the batch path gives Classify's answers exactly.
+type batchPatch struct{ Surface }
+
+func (b batchPatch) ProjectAll(dst []Projection, pts []r3.Vec) {
+	for i, p := range pts {
+		dst[i] = b.Project(p)
+	}
+}
+
+// TestBatchPathMatchesClassify: for a one-patch design whose surface can
+// project in batches, the pipeline's batch path gives exactly the status,
+// patch and deviation that Classify gives point by point.
+func TestBatchPathMatchesClassify(t *testing.T) {
+	d, err := ParseDesign("stream.yaml", []byte(strings.Replace(streamDesign, "limit_mm: 10", "limit_mm: 10\n  far_mm: 50", 1)), ".")
+	if err != nil {
+		t.Fatal(err)
+	}
+	d.OffsetM = 0.004
+	var c cloud.Chunk
+	for i := 0; i < 3000; i++ {
+		x, y := -2+14*float64(i%61)/60, -2+14*float64(i%53)/52
+		z := 0.02*x*y + 0.2*(float64(i%17)/16-0.5)
+		c.P = append(c.P, r3.Vec{X: x, Y: y, Z: z})
+		c.Line = append(c.Line, int64(i+1))
+		rej := ""
+		if i%101 == 0 {
+			rej = "bad"
+		}
+		c.Reject = append(c.Reject, rej)
+	}
+	want := Measure(d, &c)
+	b := *d
+	b.Patches = []Patch{d.Patches[0]}
+	b.Patches[0].Surface = batchPatch{d.Patches[0].Surface}
+	got := Measure(&b, &c)
+	seen := map[Status]int{}
+	for i := range c.P {
+		seen[want.Status[i]]++
+		if got.Status[i] != want.Status[i] || got.Patch[i] != want.Patch[i] ||
+			!(got.Dev[i] == want.Dev[i] || math.IsNaN(got.Dev[i]) && math.IsNaN(want.Dev[i])) {
+			t.Fatalf("record %d: batch (%v, %d, %g), Classify (%v, %d, %g)", i, got.Status[i], got.Patch[i], got.Dev[i], want.Status[i], want.Patch[i], want.Dev[i])
+		}
+	}
+	for _, st := range []Status{StatusUsed, StatusFar, StatusOutside, StatusRejected} {
+		if seen[st] == 0 {
+			t.Errorf("the fixture should exercise status %v", st)
+		}
 	}
 }
