@@ -35,6 +35,7 @@ const (
 	roleN    = "n"
 	roleZ    = "z"
 	roleCode = "code"
+	roleStn  = "station"
 	roleSkip = "-"
 )
 
@@ -56,6 +57,8 @@ func columnRole(name string) string {
 		return roleZ
 	case "code", "desc", "description", "remark", "remarks", "descr":
 		return roleCode
+	case "station", "stn", "setup", "station_id", "stationid", "sta":
+		return roleStn
 	case "-", "_", "skip":
 		return roleSkip
 	}
@@ -87,6 +90,7 @@ type csvReader struct {
 
 	ncols                            int
 	idCol, eCol, nCol, zCol, codeCol int // -1 when absent
+	stnCol                           int // -1 when absent
 	attrCols                         []int
 	attrNames                        []string
 
@@ -131,7 +135,7 @@ type lineRef struct {
 type rowParser struct {
 	fields      []span
 	arena       []byte // id and code bytes of its records
-	ends        []int  // per record: end of its id, end of its code in arena
+	ends        []int  // per record: end of its id, of its code and of its station in arena
 	rejected    int64
 	firstBad    int64
 	firstReason string
@@ -255,8 +259,8 @@ func newCSV(src io.Reader, path string, opt Options) (*csvReader, error) {
 // fromHeader, else --columns).
 func (r *csvReader) setColumns(names []string, fromHeader bool, line int) error {
 	r.ncols = len(names)
-	r.idCol, r.eCol, r.nCol, r.zCol, r.codeCol = -1, -1, -1, -1, -1
-	slot := map[string]*int{roleID: &r.idCol, roleE: &r.eCol, roleN: &r.nCol, roleZ: &r.zCol, roleCode: &r.codeCol}
+	r.idCol, r.eCol, r.nCol, r.zCol, r.codeCol, r.stnCol = -1, -1, -1, -1, -1, -1
+	slot := map[string]*int{roleID: &r.idCol, roleE: &r.eCol, roleN: &r.nCol, roleZ: &r.zCol, roleCode: &r.codeCol, roleStn: &r.stnCol}
 	cols := make([]string, len(names))
 	var saidXY bool
 	unitClash := ""
@@ -738,6 +742,9 @@ func (r *csvReader) Read(c *Chunk, max int) error {
 	if r.codeCol < 0 {
 		c.Code = nil
 	}
+	if r.stnCol < 0 {
+		c.Station = nil
+	}
 	c.Attr = attrsFor(c.Attr, r.attrNames)
 	if r.err != nil {
 		return r.err
@@ -809,6 +816,9 @@ func (r *csvReader) parse(c *Chunk, n int) {
 	if r.codeCol >= 0 {
 		c.Code = grow(c.Code, n)
 	}
+	if r.stnCol >= 0 {
+		c.Station = grow(c.Station, n)
+	}
 	for k := range c.Attr {
 		c.Attr[k].Values = grow(c.Attr[k].Values, n)
 	}
@@ -850,20 +860,23 @@ func (r *csvReader) parseRange(p *rowParser, c *Chunk, lo, hi int) {
 		l := sc.lines[i]
 		r.row(p, c, i, sc.block[l.a:l.b], l.no)
 	}
-	if r.idCol < 0 && r.codeCol < 0 {
+	if r.idCol < 0 && r.codeCol < 0 && r.stnCol < 0 {
 		return
 	}
-	s := string(p.arena) // one allocation for all ids and codes of the range
+	s := string(p.arena) // one allocation for all ids, codes and stations of the range
 	a := 0
 	for j := 0; j < hi-lo; j++ {
-		idEnd, codeEnd := p.ends[2*j], p.ends[2*j+1]
+		idEnd, codeEnd, stnEnd := p.ends[3*j], p.ends[3*j+1], p.ends[3*j+2]
 		if r.idCol >= 0 {
 			c.ID[lo+j] = s[a:idEnd]
 		}
 		if r.codeCol >= 0 {
 			c.Code[lo+j] = s[idEnd:codeEnd]
 		}
-		a = codeEnd
+		if r.stnCol >= 0 {
+			c.Station[lo+j] = s[codeEnd:stnEnd]
+		}
+		a = stnEnd
 	}
 }
 
@@ -913,6 +926,10 @@ func (r *csvReader) row(p *rowParser, c *Chunk, i int, line []byte, no int64) {
 	if r.codeCol >= 0 {
 		code, _ = field(r.codeCol)
 	}
+	var stn []byte
+	if r.stnCol >= 0 {
+		stn, _ = field(r.stnCol)
+	}
 	for k, col := range r.attrCols {
 		v := math.NaN()
 		if b, ok := field(col); ok && len(b) > 0 {
@@ -936,7 +953,9 @@ func (r *csvReader) row(p *rowParser, c *Chunk, i int, line []byte, no int64) {
 	p.arena = append(p.arena, id...)
 	idEnd := len(p.arena)
 	p.arena = append(p.arena, code...)
-	p.ends = append(p.ends, idEnd, len(p.arena))
+	codeEnd := len(p.arena)
+	p.arena = append(p.arena, stn...)
+	p.ends = append(p.ends, idEnd, codeEnd, len(p.arena))
 }
 
 // coord parses coordinate text b of column name and converts it to metres;

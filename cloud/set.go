@@ -26,6 +26,10 @@ type Chunk struct {
 	ID []string
 	// Code holds the survey code or description; nil where the format has none.
 	Code []string
+	// Station holds the id of the instrument station each record was
+	// observed from, where the file carries one (a station/stn/setup
+	// column); nil otherwise.
+	Station []string
 	// Line holds the 1-based source line (text formats) or 1-based record
 	// number (binary formats) of every record.
 	Line []int64
@@ -47,6 +51,9 @@ func (c *Chunk) Reset() {
 	}
 	if c.Code != nil {
 		c.Code = c.Code[:0]
+	}
+	if c.Station != nil {
+		c.Station = c.Station[:0]
 	}
 	c.Line = c.Line[:0]
 	c.Reject = c.Reject[:0]
