@@ -161,10 +161,17 @@ func (c *Collector) Consume(r *Result) error {
 		u := math.NaN()
 		if r.U != nil {
 			u = r.U[i]
-			if c.Decision != nil && !math.IsNaN(u) {
-				c.sawU = true
-				c.UStats.Add(u)
-				z := c.Zones[k].AddPoint(&c.Decision.Criterion, d, u)
+			if c.Decision != nil {
+				// a point without a known u (its station is not in the
+				// model) is decided by its deviation alone (u = 0)
+				uz := u
+				if math.IsNaN(uz) {
+					uz = 0
+				} else {
+					c.sawU = true
+					c.UStats.Add(u)
+				}
+				z := c.Zones[k].AddPoint(&c.Decision.Criterion, d, uz)
 				c.ZonesAll.Add(z)
 				if z == uncert.Inconclusive {
 					c.Needed.Add(d, c.Decision.Criterion.Limit, c.Decision.Rule.K)

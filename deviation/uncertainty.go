@@ -2,6 +2,7 @@ package deviation
 
 import (
 	"math"
+	"sync/atomic"
 
 	"saddlecheck/uncert"
 )
@@ -20,6 +21,12 @@ type Uncertainty struct {
 	// Setups holds the model of each input (by Chunk.Source); a nil entry
 	// means no model for that input (u is NaN there).
 	Setups []*uncert.Setup
+	// ByStation, where an input's model has several stations, maps each
+	// station id to its setup; the point's own station id (Chunk.Station)
+	// picks it. A point whose station the model lacks gets u = NaN and is
+	// counted in Unmatched.
+	ByStation []map[string]*uncert.Setup
+	Unmatched atomic.Int64
 }
 
 var _ Enricher = (*Uncertainty)(nil)
@@ -42,8 +49,19 @@ func (e *Uncertainty) Enrich(r *Result) {
 	if c.Source < len(e.Setups) {
 		s = e.Setups[c.Source]
 	}
+	var byStn map[string]*uncert.Setup
+	if c.Source < len(e.ByStation) && c.Station != nil {
+		byStn = e.ByStation[c.Source]
+	}
 	nan := math.NaN()
+	var unmatched int64
 	for i, n := 0, c.Len(); i < n; i++ {
+		if byStn != nil && r.Status[i] != StatusRejected {
+			s = byStn[c.Station[i]]
+			if s == nil {
+				unmatched++
+			}
+		}
 		if s == nil || r.Status[i] == StatusRejected {
 			r.U[i] = nan
 			continue
@@ -55,6 +73,9 @@ func (e *Uncertainty) Enrich(r *Result) {
 			continue
 		}
 		r.U[i] = s.NormalU(c.P[i], r.Normal[i])
+	}
+	if unmatched > 0 {
+		e.Unmatched.Add(unmatched)
 	}
 }
 

@@ -247,6 +247,9 @@ func check(c *checkConfig, stdout, stderr io.Writer) error {
 		report.AddAsBuilt(s, col, d, abIn)
 	}
 	if unc != nil {
+		if n := unc.Unmatched.Load(); n > 0 {
+			uNotes = append(uNotes, fmt.Sprintf("%d points name a station the uncertainty model does not have: they carry no uncertainty (u empty in deviations.csv) and are decided by their deviation alone", n))
+		}
 		report.AddUncertainty(s, col, rule, uNotes)
 		s.VerdictText = report.VerdictText(s)
 	}
@@ -467,11 +470,27 @@ func uncertaintyFor(c *checkConfig, d *deviation.Design, stderr io.Writer) (*dev
 		if err != nil {
 			return nil, uncert.Rule{}, nil, err
 		}
+		var byStn map[string]*uncert.Setup
 		if len(setups) != 1 {
-			return nil, uncert.Rule{}, nil, fmt.Errorf("%s: the uncertainty model has %d stations; give one points file per station, each with its own --uncertainty file", c.points[i], len(setups))
+			has, err := hasStationColumn(c.points[i], c)
+			if err != nil {
+				return nil, uncert.Rule{}, nil, err
+			}
+			if !has {
+				return nil, uncert.Rule{}, nil, fmt.Errorf("%s: the uncertainty model has %d stations but the file has no station column (station, stn or setup) naming each shot's station; add one, or give one points file per station, each with its own --uncertainty file", c.points[i], len(setups))
+			}
+			byStn = map[string]*uncert.Setup{}
+			for k := range setups {
+				byStn[setups[k].ID] = &setups[k]
+			}
 		}
 		s := setups[0]
-		e.Setups = append(e.Setups, &s)
+		if byStn != nil {
+			e.Setups = append(e.Setups, nil)
+		} else {
+			e.Setups = append(e.Setups, &s)
+		}
+		e.ByStation = append(e.ByStation, byStn)
 		for _, w := range m.Warnings() {
 			notes = append(notes, c.points[i]+": uncertainty model: "+w)
 		}
@@ -498,4 +517,35 @@ func loadModel(path string) (*uncert.Model, error) {
 		return nil, fmt.Errorf("%s: %w", path, err)
 	}
 	return &m, nil
+}
+
+// hasStationColumn reports whether the points file carries per-shot
+// station ids (a station, stn or setup column).
+func hasStationColumn(path string, c *checkConfig) (bool, error) {
+	unit, err := cloud.ParseUnit(c.units)
+	if err != nil {
+		return false, err
+	}
+	r, err := cloud.Open(path, cloud.Options{Unit: unit, Columns: splitColumns(c.columns)})
+	if err != nil {
+		return false, err
+	}
+	defer r.Close()
+	for _, col := range r.Info().Columns {
+		if col == "station" {
+			return true, nil
+		}
+	}
+	return false, nil
+}
+
+func splitColumns(s string) []string {
+	if s == "" {
+		return nil
+	}
+	var cols []string
+	for _, c := range strings.Split(s, ",") {
+		cols = append(cols, strings.TrimSpace(c))
+	}
+	return cols
 }

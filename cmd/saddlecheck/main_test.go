@@ -380,3 +380,67 @@ func TestDesignUncertaintySection(t *testing.T) {
 		t.Errorf("exit %d, stderr %q: want 2 and the line %d named", code, stderr, lines+1)
 	}
 }
+
+// TestPerShotStations: with a two-station total-station model and a
+// station column in the shot file, each shot takes its own station's
+// uncertainty. Only a 1″ angle error is modelled and the sights are close
+// to horizontal, so along the (near-vertical) normal u ≈ s·σ_rad, the
+// small-angle closed form (FIELD.md §3.2: 1″ gives 0.24 mm at 50 m and
+// 0.48 mm at 100 m [computed]; Ghilani, Adjustment Computations, error
+// propagation in angles, from memory).
+func TestPerShotStations(t *testing.T) {
+	dir := t.TempDir()
+	design, points := hyparFixture(t, dir, []float64{0, 0, 0, 0, 0, 0})
+	const e0, n0 = 500000.0, 5000000.0
+	b, _ := os.ReadFile(points)
+	lines := strings.Split(strings.TrimSpace(string(b)), "\n")
+	var out strings.Builder
+	out.WriteString("id,e,n,z,station\n")
+	for i, l := range lines[1:] {
+		stn := "FAR"
+		if i%2 == 1 {
+			stn = "NEAR"
+		}
+		out.WriteString(l + "," + stn + "\n")
+	}
+	os.WriteFile(points, []byte(out.String()), 0o644)
+	model := filepath.Join(dir, "ts.yaml")
+	os.WriteFile(model, []byte(fmt.Sprintf(`instrument:
+  kind: total-station
+  angle_arcsec: 1
+  stations:
+    - {id: FAR, e: %.3f, n: %.3f, h: 0.0, instrument_height: 0.0}
+    - {id: NEAR, e: %.3f, n: %.3f, h: 0.0, instrument_height: 0.0}
+`, e0-100, n0+5, e0-50, n0+5)), 0o644)
+	res := filepath.Join(dir, "out")
+	code, _, stderr := runArgs(t, "check", "--design", design, "--points", points, "--out", res, "--uncertainty", model, "--no-fit")
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	rows := readCSV(t, filepath.Join(res, "deviations.csv"))
+	col := map[string]int{}
+	for i, h := range rows[0] {
+		col[h] = i
+	}
+	const sigma = math.Pi / 180 / 3600 // 1″ in radians
+	for i, r := range rows[1:] {
+		x, _ := strconv.ParseFloat(r[col["x"]], 64)
+		y, _ := strconv.ParseFloat(r[col["y"]], 64)
+		z, _ := strconv.ParseFloat(r[col["z"]], 64)
+		st := [2]float64{e0 - 100, n0 + 5}
+		if i%2 == 1 {
+			st = [2]float64{e0 - 50, n0 + 5}
+		}
+		s := math.Sqrt((x-st[0])*(x-st[0]) + (y-st[1])*(y-st[1]) + z*z)
+		u, _ := strconv.ParseFloat(r[col["u_mm"]], 64)
+		if want := s * sigma * 1000; math.Abs(u-want) > 0.03*want+0.006 {
+			t.Errorf("shot %d (station %s, %.1f m): u %.3f mm, want about %.3f mm", i, r[col["id"]], s, u, want)
+		}
+	}
+	// a file without a station column cannot use a two-station model
+	os.WriteFile(points, []byte(strings.Join(lines, "\n")+"\n"), 0o644)
+	code, _, stderr = runArgs(t, "check", "--design", design, "--points", points, "--out", res, "--uncertainty", model, "--no-fit")
+	if code != exitUsage || !strings.Contains(stderr, "station column") {
+		t.Errorf("exit %d, %q: want 2 and a request for a station column", code, stderr)
+	}
+}
