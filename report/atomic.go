@@ -36,25 +36,33 @@ func (w *File) Commit() error {
 		return fmt.Errorf("report: %s committed twice", w.final)
 	}
 	w.done = true
-	err := w.Flush()
-	if err == nil {
-		err = w.f.Sync()
-	}
-	if cerr := w.f.Close(); err == nil {
-		err = cerr
-	}
-	if err == nil {
-		// CreateTemp makes the file private (0600); a report is for sharing
-		err = os.Chmod(w.f.Name(), 0o644)
-	}
-	if err == nil {
-		err = os.Rename(w.f.Name(), w.final)
-	}
-	if err != nil {
-		os.Remove(w.f.Name())
+	if err := finishTemp(w.f, w.final, w.Flush()); err != nil {
 		return fmt.Errorf("writing %s: %w", w.final, err)
 	}
 	return nil
+}
+
+// finishTemp completes a temporary file f: unless err is already set it
+// syncs and closes f, makes it readable by all (CreateTemp makes it 0600; a
+// report is for sharing) and renames it to final. On any error the
+// temporary file is removed.
+func finishTemp(f *os.File, final string, err error) error {
+	if err == nil {
+		err = f.Sync()
+	}
+	if cerr := f.Close(); err == nil {
+		err = cerr
+	}
+	if err == nil {
+		err = os.Chmod(f.Name(), 0o644)
+	}
+	if err == nil {
+		err = os.Rename(f.Name(), final)
+	}
+	if err != nil {
+		os.Remove(f.Name())
+	}
+	return err
 }
 
 // Abort discards the file. It is a no-op after Commit.

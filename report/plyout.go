@@ -96,22 +96,7 @@ func (o *PLYOut) Consume(r *deviation.Result) error {
 // Close finishes the file (its vertex count is written then) and renames
 // it into place.
 func (o *PLYOut) Close() error {
-	err := o.w.Close()
-	if err == nil {
-		err = o.f.Sync()
-	}
-	if cerr := o.f.Close(); err == nil {
-		err = cerr
-	}
-	if err == nil {
-		err = os.Chmod(o.f.Name(), 0o644)
-	}
-	if err == nil {
-		err = os.Rename(o.f.Name(), o.final)
-	}
-	if err != nil {
-		os.Remove(o.f.Name())
-	}
+	err := finishTemp(o.f, o.final, o.w.Close())
 	o.f = nil
 	return err
 }
