@@ -3,6 +3,8 @@ package fit
 import (
 	"math"
 
+	"gonum.org/v1/gonum/spatial/r3"
+
 	"saddlecheck/deviation"
 )
 
@@ -46,4 +48,36 @@ func (a *AsBuilt) Enrich(r *deviation.Result) {
 		r.Resid[i] = d
 		r.Outlier[i] = math.Abs(d) > f.Threshold
 	}
+}
+
+// PointU returns the standard uncertainty, in metres, of the fitted
+// surface's position along its normal at the closest point of the site
+// point p: the fit's own contribution to the uncertainty of a deviation
+// measured from the fitted surface,
+//
+//	u_fit² = gᵀ·C·g,   g = ∂d/∂θ at the foot,
+//
+// with C the parameter covariance (ParCov) and g the orthogonal-distance
+// gradient of the saddle problem (SaddleProblem's doc: for the foot Y and
+// n = (−2K1Y_x, −2K2Y_y, 1), ∂d/∂K1 = −Y_x²/|n|, ∂d/∂K2 = −Y_y²/|n|,
+// ∂d/∂ω = n × (Y − c)/|n|, ∂d/∂t = −n/|n|, c the pivot). This is the law
+// of propagation of uncertainty (JCGM 100:2008 §5.1.2) applied to the
+// linearised fit. NaN when the fit has no covariance.
+func (r *SaddleResult) PointU(p r3.Vec) float64 {
+	if r.ParCov == nil {
+		return math.NaN()
+	}
+	s := &r.Saddle
+	foot, _ := s.ClosestLocal(s.ToLocal(p))
+	n := r3.Vec{X: -2 * s.K1 * foot.X, Y: -2 * s.K2 * foot.Y, Z: 1}
+	nn := r3.Norm(n)
+	w := r3.Cross(n, r3.Sub(foot, s.ToLocal(r.Pivot)))
+	g := [NumSaddlePar]float64{-foot.X * foot.X / nn, -foot.Y * foot.Y / nn, w.X / nn, w.Y / nn, w.Z / nn, -n.X / nn, -n.Y / nn, -n.Z / nn}
+	var q float64
+	for i := 0; i < NumSaddlePar; i++ {
+		for j := 0; j < NumSaddlePar; j++ {
+			q += g[i] * r.ParCov.At(i, j) * g[j]
+		}
+	}
+	return math.Sqrt(math.Max(q, 0))
 }
