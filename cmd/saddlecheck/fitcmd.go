@@ -15,6 +15,7 @@ import (
 	"saddlecheck/deviation/mesh"
 	"saddlecheck/fit"
 	"saddlecheck/report"
+	"saddlecheck/uncert"
 )
 
 func init() {
@@ -34,7 +35,11 @@ removed from the data.
 Without --design the points are one surface. With --design each analytic
 patch is fitted from the design pose, and compared with the design
 (placement, tilt, shape). Writes DIR/fit.json and DIR/fit.html; with --stl
-also the fitted surface over the data's extent as a binary STL.
+also the fitted surface over the data's extent as a binary STL. Without a
+design it also writes DIR/residuals.csv: every input record measured
+against the fitted surface as the reference, with the fit's own
+uncertainty at that point combined with the instrument's (--u-mm or
+--uncertainty).
 
 Example:
   saddlecheck fit --points kiosk-roof-scan.ply --out kiosk-roof-fit --stl kiosk-roof-asbuilt.stl
@@ -51,6 +56,8 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 	seed := fs.Uint64("seed", fit.DefaultSeed, "random seed (same seed, same result)")
 	units := fs.String("units", "m", "unit of the points files: m, mm, ft, us-ft")
 	robust := fs.String("robust", "", "reweighting after the inlier selection: none, huber or tukey")
+	uFile := fs.String("uncertainty", "", "instrument model file (YAML, the design file's uncertainty schema) for residuals.csv (without --design)")
+	uMM := fs.Float64("u-mm", 0, "plain per-point standard uncertainty for residuals.csv, mm (without --design)")
 	if help, err := parseFlags(fs, args); help || err != nil {
 		return err
 	}
@@ -84,6 +91,33 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 			return err
 		}
 		run.Structure = "as-built fit of " + filepath.Base(points[0])
+		var setup *uncert.Setup
+		switch {
+		case *uFile != "" && *uMM != 0:
+			return usageErr(stderr, "fit", "give --uncertainty or --u-mm, not both")
+		case *uFile != "":
+			m, err := loadModel(*uFile)
+			if err != nil {
+				return err
+			}
+			ss, err := m.Setups()
+			if err != nil {
+				return err
+			}
+			if len(ss) != 1 {
+				return fmt.Errorf("%s: fit takes a one-station model (%d stations given)", *uFile, len(ss))
+			}
+			setup = &ss[0]
+		case *uMM < 0:
+			return usageErr(stderr, "fit", "--u-mm must be positive")
+		case *uMM > 0:
+			m := uncert.Model{Instrument: uncert.Instrument{Kind: uncert.KindPlain, SigmaMM: *uMM}}
+			ss, err := m.Setups()
+			if err != nil {
+				return err
+			}
+			setup = &ss[0]
+		}
 		s := report.FitSurface{Sample: len(pts), Seen: seen}
 		r, err := fit.FitSaddle(pts, settings(nil))
 		if err != nil {
@@ -91,6 +125,10 @@ func runFit(args []string, stdout, stderr io.Writer) error {
 		} else {
 			s.Result = r
 			s.OutlierIDs = outlierIDs(r, ids)
+			if err := writeResiduals(filepath.Join(*out, "residuals.csv"), points, opts, r, setup); err != nil {
+				return err
+			}
+			run.Warnings = append(run.Warnings, "residuals.csv: every input record measured against the fitted surface as the reference, with the fit's own uncertainty (u_fit_mm) combined with the instrument's (u_mm)")
 			if *stl != "" {
 				if err := writeFittedSTL(*stl, r, pts); err != nil {
 					return err
@@ -216,4 +254,37 @@ func writeFittedSTL(path string, r *fit.SaddleResult, pts []r3.Vec) error {
 	}
 	o := r3.Vec{X: math.Round(s.Origin.X), Y: math.Round(s.Origin.Y), Z: math.Round(s.Origin.Z)}
 	return mesh.WriteSTL(path, o, v, t)
+}
+
+// writeResiduals streams every input record through the fitted surface as
+// the reference into residuals.csv.
+func writeResiduals(path string, points []string, opts cloud.Options, r *fit.SaddleResult, setup *uncert.Setup) error {
+	w, err := report.NewResidualCSV(path, r, setup)
+	if err != nil {
+		return err
+	}
+	defer w.Abort()
+	var c cloud.Chunk
+	for _, p := range points {
+		rd, err := cloud.Open(p, opts)
+		if err != nil {
+			return err
+		}
+		for {
+			err := rd.Read(&c, 0)
+			if err == io.EOF {
+				break
+			}
+			if err != nil {
+				rd.Close()
+				return withFile(p, err)
+			}
+			if err := w.Add(&c, p); err != nil {
+				rd.Close()
+				return err
+			}
+		}
+		rd.Close()
+	}
+	return w.Commit()
 }

@@ -44,11 +44,12 @@ func TestFitCommandRecoversSaddle(t *testing.T) {
 		}
 		fmt.Fprintf(&b, "p%d,%.5f,%.5f,%.5f\n", i, e0+x, n0+y, h0+z)
 	}
+	b.WriteString("bad,500130.0,5000460.0,oops\n")
 	dir := t.TempDir()
 	pts := filepath.Join(dir, "scan.csv")
 	os.WriteFile(pts, []byte(b.String()), 0o644)
 	out := filepath.Join(dir, "fit")
-	code, _, stderr := runArgs(t, "fit", "--points", pts, "--out", out, "--stl", filepath.Join(out, "asbuilt.stl"))
+	code, _, stderr := runArgs(t, "fit", "--points", pts, "--out", out, "--stl", filepath.Join(out, "asbuilt.stl"), "--u-mm", "1.5")
 	if code != exitOK {
 		t.Fatalf("fit exit %d: %s", code, stderr)
 	}
@@ -89,6 +90,33 @@ func TestFitCommandRecoversSaddle(t *testing.T) {
 	}
 	if _, err := os.Stat(filepath.Join(out, "fit.html")); err != nil {
 		t.Error(err)
+	}
+	// residuals.csv: every record, the fitted surface as the reference,
+	// u combined in quadrature (JCGM 100:2008, uncorrelated components)
+	rows := readCSV(t, filepath.Join(out, "residuals.csv"))
+	if len(rows)-1 != 3001 {
+		t.Fatalf("residuals.csv has %d rows, want 3001 (every record)", len(rows)-1)
+	}
+	if last := rows[len(rows)-1]; last[9] != "rejected" || last[10] == "" {
+		t.Errorf("the bad row reads %v", last)
+	}
+	var sumSq float64
+	var inl int
+	for _, r := range rows[1:3001] {
+		res, _ := strconv.ParseFloat(r[4], 64)
+		uf, _ := strconv.ParseFloat(r[5], 64)
+		ui, _ := strconv.ParseFloat(r[6], 64)
+		u, _ := strconv.ParseFloat(r[7], 64)
+		if ui != 1.5 || !(uf > 0 && uf < 1.5) || math.Abs(u-math.Hypot(ui, uf)) > 0.0015 {
+			t.Fatalf("row %v: u_instrument %g, u_fit %g, u %g", r, ui, uf, u)
+		}
+		if r[8] == "no" {
+			sumSq += res * res
+			inl++
+		}
+	}
+	if rms := math.Sqrt(sumSq / float64(inl)); math.Abs(rms-j.RMSMM) > 0.05 {
+		t.Errorf("inlier RMS of residuals.csv %.3f mm, fit.json says %.3f mm", rms, j.RMSMM)
 	}
 	// the STL of the fitted surface opens with the general-purpose reader
 	m, err := stl.ReadFile(filepath.Join(out, "asbuilt.stl"))
