@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"math"
 
+	"gonum.org/v1/gonum/spatial/r3"
+
 	"saddlecheck/deviation"
 	"saddlecheck/fit"
 )
@@ -15,6 +17,9 @@ type AsBuiltInput struct {
 	Split  fit.Split
 	Note   string
 	Sample int // points the fit saw
+	// Pose is the fit described at a fixed design point (nil if none).
+	Pose    *fit.PoseEstimate
+	PoseRef r3.Vec
 }
 
 // AddAsBuilt fills the as-built section of s: per patch the placement,
@@ -43,6 +48,13 @@ func AddAsBuilt(s *Summary, c *deviation.Collector, d *deviation.Design, in []As
 			if c.Local != nil && c.Local[i] != nil && c.Local[i].N() > 0 {
 				ab.RMSLocalMM = c.Local[i].RMS() * 1000
 				ab.MaxLocalMM = math.Max(math.Abs(c.Local[i].Min()), math.Abs(c.Local[i].Max())) * 1000
+			}
+		}
+		if a.Pose != nil {
+			ab.Pose = &Pose{Params: fit.PoseParams[:], Kinds: []string{"shape", "shape", "translation", "rotation", "rotation"},
+				Value: a.Pose.Value[:], Ref: [3]float64{a.PoseRef.X, a.PoseRef.Y, a.PoseRef.Z}, DOF: max(a.Result.DOF, 0)}
+			for _, row := range a.Pose.Cov {
+				ab.Pose.Cov = append(ab.Pose.Cov, append([]float64(nil), row[:]...))
 			}
 		}
 		s.Patches[i].AsBuilt = ab

@@ -148,6 +148,22 @@ type AsBuilt struct {
 	SampleSize   int     `json:"sample_size"`
 	QuadricClass string  `json:"quadric_class"`
 	Solver       string  `json:"solver"`
+	// Pose describes the fit by quantities that keep their meaning across
+	// epochs, with their covariance (for the archive's congruency test).
+	Pose *Pose `json:"pose,omitempty"`
+}
+
+// Pose is a fitted parameter vector with its covariance: k1, k2 (1/m), the
+// offset of the as-built surface from the design reference point Ref along
+// the design normal (m), and the tilt of the as-built normal there (two
+// components, rad).
+type Pose struct {
+	Params []string    `json:"params"`
+	Kinds  []string    `json:"kinds"`
+	Value  []float64   `json:"value"`
+	Cov    [][]float64 `json:"cov"`
+	Ref    [3]float64  `json:"ref"`
+	DOF    int         `json:"dof"`
 }
 
 // Value is an estimate with its standard uncertainty.

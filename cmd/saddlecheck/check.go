@@ -414,6 +414,17 @@ func fitPatch(d *deviation.Design, k int, s *deviation.Sampler, seed uint64) rep
 	cen := r3.Add(pts[0], r3.Scale(1/n, sum))
 	in.Result = r
 	in.Split = fit.CompareToDesign(ds, r, cen)
+	// the pose at a fixed design point (the foot of the corners' centroid),
+	// comparable between epochs
+	var cc r3.Vec
+	for _, q := range p.Corners {
+		cc = r3.Add(cc, r3.Scale(0.25, r3.Sub(q, p.Corners[0])))
+	}
+	ref := p.Surface.Project(r3.Add(p.Corners[0], cc))
+	if pe, ok := r.Pose(ref.Foot, ref.Normal); ok {
+		in.Pose = &pe
+		in.PoseRef = ref.Foot
+	}
 	return in
 }
 

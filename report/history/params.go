@@ -5,6 +5,8 @@ import (
 	"math"
 	"sort"
 
+	"gonum.org/v1/gonum/mat"
+
 	"saddlecheck/change"
 	"saddlecheck/report"
 )
@@ -23,23 +25,72 @@ type PatchParams struct {
 }
 
 // SummarySource describes parameters taken from a check summary.
-const SummarySource = "check summary: as-built k1, k2 with standard uncertainties; their correlation is not in the summary and is taken as zero"
+const SummarySource = "check summary: as-built k1, k2 (shape), the offset of the as-built surface along the design normal at a fixed design point (translation) and the tilt of its normal there (rotation), with their full covariance propagated from each fit"
 
-// ParamsFromSummary takes the as-built shape coefficients of every fitted
-// patch of a check summary (k1, k2 with their standard uncertainties; the
-// residual degrees of freedom are inliers − 8, the saddle fit's eight
-// parameters).
+// SummarySourceShape describes parameters from an older summary that only
+// has k1 and k2.
+const SummarySourceShape = "check summary: as-built k1, k2 with standard uncertainties; their correlation is not in the summary and is taken as zero"
+
+// ParamsFromSummary takes the as-built parameters of every fitted patch of
+// a check summary: the pose vector (k1, k2, offset, two tilts) with its
+// covariance where the summary has it, else k1 and k2 with their standard
+// uncertainties. The residual degrees of freedom are inliers − 8 (the
+// saddle fit's eight parameters).
 func ParamsFromSummary(s *report.Summary) StoredParams {
 	p := StoredParams{Source: SummarySource, Patches: []PatchParams{}}
+	shapeOnly := false
 	for _, pt := range s.Patches {
 		ab := pt.AsBuilt
 		if ab == nil || !ab.Fitted || !(ab.K1.U > 0) || !(ab.K2.U > 0) {
 			continue
 		}
+		if e, ok := poseEstimate(ab.Pose); ok {
+			p.Patches = append(p.Patches, PatchParams{Patch: pt.ID, Estimate: e})
+			continue
+		}
+		shapeOnly = true
 		p.Patches = append(p.Patches, PatchParams{Patch: pt.ID,
 			Estimate: change.ShapeEstimate(ab.K1.Value, ab.K1.U, ab.K2.Value, ab.K2.U, max(ab.Inliers-8, 0))})
 	}
+	if shapeOnly {
+		p.Source = SummarySourceShape
+	}
 	return p
+}
+
+// poseEstimate turns a summary pose into a change.Estimate (an already
+// scaled covariance).
+func poseEstimate(ps *report.Pose) (change.Estimate, bool) {
+	if ps == nil || len(ps.Params) == 0 || len(ps.Value) != len(ps.Params) || len(ps.Kinds) != len(ps.Params) || len(ps.Cov) != len(ps.Params) {
+		return change.Estimate{}, false
+	}
+	n := len(ps.Params)
+	e := change.Estimate{Value: append([]float64(nil), ps.Value...), Cov: mat.NewSymDense(n, nil), Dof: ps.DOF}
+	for i, name := range ps.Params {
+		var k change.Kind
+		switch ps.Kinds[i] {
+		case "shape":
+			k = change.Shape
+		case "translation":
+			k = change.Translation
+		case "rotation":
+			k = change.Rotation
+		default:
+			return change.Estimate{}, false
+		}
+		e.Params = append(e.Params, change.Param{Name: name, Kind: k})
+		if len(ps.Cov[i]) != n {
+			return change.Estimate{}, false
+		}
+		for j := i; j < n; j++ {
+			v := 0.5 * (ps.Cov[i][j] + ps.Cov[j][i])
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return change.Estimate{}, false
+			}
+			e.Cov.SetSym(i, j, v)
+		}
+	}
+	return e, true
 }
 
 // ParameterTests runs, for every patch present in both epochs, the
