@@ -393,7 +393,7 @@ normal, with a 95 % level of detection per core point from both epochs'
 roughness, point counts and registration errors; core points with fewer
 than --min-points points of either epoch are marked "too few points".
 Parameter level: where both epochs have a stored check result (see
-'archive recheck'), the global congruency test of their shape parameters
+'archive recheck'), the global congruency test of their fitted parameters (k1, k2; offset and tilt at a fixed design point)
 and per-parameter tests. Writes compare.html, cores.csv and compare.json
 into --out. A detected change is not a conformity verdict: the exit code
 is 0 whenever the comparison ran.
