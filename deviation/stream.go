@@ -45,8 +45,9 @@ type Result struct {
 	Outlier []bool
 	// Seq is the 0-based sequence number of the chunk over all inputs.
 	Seq int
-	// proj is scratch for batch projection (see BatchSurface).
-	proj []Projection
+	// proj and inside are scratch for batch projection (see BatchSurface).
+	proj   []Projection
+	inside []bool
 	// Encoded holds output bytes that encoders running as Enrichers (on
 	// the workers, in parallel) prepared for their sinks, one slot per
 	// encoder (see NextSlot); the sink then only writes them, in order.
@@ -303,14 +304,35 @@ func measure(d *Design, r *Result, enrich []Enricher) {
 func measureBatch(d *Design, bs BatchSurface, r *Result) {
 	c := r.Chunk
 	n := c.Len()
-	r.proj = resize(r.proj, n)
-	// rejected records carry the zero point; projecting it is harmless
-	bs.ProjectAll(r.proj, c.P)
 	far := d.Tolerance.FarM
 	if far == 0 {
 		far = DefaultFarM
 	}
 	nan := math.NaN()
+	if m, ok := bs.(measurer); ok {
+		// rejected records carry the zero point; measuring it is harmless
+		r.inside = resize(r.inside, n)
+		m.measureAll(r.Dev, r.Normal, r.inside, c.P)
+		for i := 0; i < n; i++ {
+			if c.Reject[i] != "" {
+				r.Patch[i], r.Dev[i], r.Normal[i], r.Status[i] = -1, nan, r3.Vec{}, StatusRejected
+				continue
+			}
+			dev := r.Dev[i] - d.OffsetM
+			r.Dev[i] = dev
+			switch {
+			case !r.inside[i]:
+				r.Patch[i], r.Status[i] = -1, StatusOutside
+			case math.Abs(dev) > far:
+				r.Patch[i], r.Status[i] = 0, StatusFar
+			default:
+				r.Patch[i], r.Status[i] = 0, StatusUsed
+			}
+		}
+		return
+	}
+	r.proj = resize(r.proj, n)
+	bs.ProjectAll(r.proj, c.P)
 	for i := 0; i < n; i++ {
 		if c.Reject[i] != "" {
 			r.Patch[i], r.Dev[i], r.Normal[i], r.Status[i] = -1, nan, r3.Vec{}, StatusRejected

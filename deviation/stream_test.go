@@ -195,3 +195,56 @@ func TestBatchPathMatchesClassify(t *testing.T) {
 		}
 	}
 }
+
+// TestFastPathMatchesClassify: one-patch analytic designs (corners and
+// saddle forms) measured through the pipeline's fast path give exactly
+// Classify's status, patch, deviation and normal for every point.
+func TestFastPathMatchesClassify(t *testing.T) {
+	saddleDesign := strings.Replace(streamDesign, "    corners: [[0, 0, 0], [10, 0, 0], [10, 10, 2], [0, 10, 0]]",
+		"    saddle: {k1: 0.01, k2: -0.01, origin: [5, 5, 0.5], axes: [[0.7071067811865476, 0.7071067811865476, 0], [-0.7071067811865476, 0.7071067811865476, 0], [0, 0, 1]]}\n    corners: [[0, 0, 0], [10, 0, 0], [10, 10, 2], [0, 10, 0]]", 1)
+	for name, text := range map[string]string{"corners": streamDesign, "saddle": saddleDesign} {
+		t.Run(name, func(t *testing.T) {
+			d, err := ParseDesign("stream.yaml", []byte(strings.Replace(text, "limit_mm: 10", "limit_mm: 10\n  far_mm: 50", 1)), ".")
+			if err != nil {
+				t.Fatal(err)
+			}
+			d.OffsetM = 0.004
+			if _, ok := d.Patches[0].Surface.(measurer); !ok {
+				t.Fatalf("%s patch has no fast path", d.Patches[0].Kind)
+			}
+			var c cloud.Chunk
+			for i := 0; i < 4000; i++ {
+				x, y := -2+14*float64(i%61)/60, -2+14*float64(i%53)/52
+				z := 0.02*x*y + 0.3*(float64(i%17)/16-0.5)
+				c.P = append(c.P, r3.Vec{X: x, Y: y, Z: z})
+				c.Line = append(c.Line, int64(i+1))
+				rej := ""
+				if i%101 == 0 {
+					rej = "bad"
+				}
+				c.Reject = append(c.Reject, rej)
+			}
+			got := Measure(d, &c)
+			seen := map[Status]int{}
+			for i, p := range c.P {
+				if c.Reject[i] != "" {
+					if got.Status[i] != StatusRejected {
+						t.Fatalf("record %d: status %v, want rejected", i, got.Status[i])
+					}
+					seen[StatusRejected]++
+					continue
+				}
+				k, pr, st := d.Classify(p)
+				seen[st]++
+				if got.Status[i] != st || int(got.Patch[i]) != k || got.Dev[i] != pr.D || got.Normal[i] != pr.Normal {
+					t.Fatalf("record %d: fast (%v, %d, %g, %v), Classify (%v, %d, %g, %v)", i, got.Status[i], got.Patch[i], got.Dev[i], got.Normal[i], st, k, pr.D, pr.Normal)
+				}
+			}
+			for _, st := range []Status{StatusUsed, StatusFar, StatusOutside, StatusRejected} {
+				if seen[st] == 0 {
+					t.Errorf("the fixture should exercise status %v", st)
+				}
+			}
+		})
+	}
+}
