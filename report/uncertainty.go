@@ -46,6 +46,21 @@ func AddUncertainty(s *Summary, c *deviation.Collector, rule uncert.Rule, modelN
 	}
 	s.Uncertainty = u
 	s.Tolerance.DecisionRule = rule.Text()
+	cr := c.Decision.Criterion
+	share := cr.MinShare
+	if share == 0 {
+		share = 1
+	}
+	patchRule := fmt.Sprintf(" With measurement uncertainty the patch verdicts follow the decision zones instead: a patch conforms when at least %.1f %% of its used points are proven conforming", 100*share)
+	if cr.MaxAbs > 0 {
+		patchRule += fmt.Sprintf(" and every point is proven within ±%.1f mm", cr.MaxAbs*1000)
+	}
+	patchRule += fmt.Sprintf("; it does not conform when more than %.1f %% are proven nonconforming", 100*(1-share))
+	if cr.MaxAbs > 0 {
+		patchRule += fmt.Sprintf(" or a point is proven beyond ±%.1f mm", cr.MaxAbs*1000)
+	}
+	patchRule += "; otherwise it is inconclusive."
+	s.Tolerance.Rule += patchRule
 	for i := range s.Patches {
 		if i < len(c.Zones) {
 			zc := c.Zones[i]
