@@ -11,6 +11,7 @@ import (
 	"gonum.org/v1/gonum/spatial/r3"
 
 	"saddlecheck/cloud"
+	"saddlecheck/cloud/internal/mapped"
 )
 
 func init() {
@@ -39,7 +40,7 @@ var optionalAttrs = []struct{ attr, field string }{
 // Reader streams the points of every scan of one E57 file. It implements
 // cloud.Reader.
 type Reader struct {
-	f     *os.File
+	mf    *mapped.File
 	p     *pager
 	hdr   header
 	scans []Scan
@@ -58,25 +59,20 @@ type Reader struct {
 // Open opens the E57 file at path. Options.Unit is applied only when it is
 // a non-metre unit; Options.Columns is ignored.
 func Open(path string, opt cloud.Options) (*Reader, error) {
-	f, err := os.Open(path)
+	mf, err := mapped.Open(path)
 	if err != nil {
 		return nil, err
 	}
-	st, err := f.Stat()
+	r, err := NewReader(mf, mf.Size, opt)
 	if err != nil {
-		f.Close()
-		return nil, err
-	}
-	r, err := NewReader(f, st.Size(), opt)
-	if err != nil {
-		f.Close()
+		mf.Close()
 		return nil, fmt.Errorf("%s: %w", path, err)
 	}
-	r.f = f
+	r.mf = mf
 	r.info.Path = path
-	if m := mapFile(f, st.Size()); m != nil {
-		r.mm = m
-		r.p.mm, r.p.first = m, -1
+	if mf.Data != nil {
+		r.mm = mf.Data
+		r.p.mm, r.p.first = mf.Data, -1
 	}
 	return r, nil
 }
@@ -144,18 +140,14 @@ func (r *Reader) Close() error {
 	}
 	r.closed = true
 	r.vec = nil
-	var err error
 	if r.mm != nil {
 		r.p.mm, r.p.block, r.p.first = nil, nil, -1
-		err = unmapFile(r.mm)
 		r.mm = nil
 	}
-	if r.f != nil {
-		if cerr := r.f.Close(); err == nil {
-			err = cerr
-		}
+	if r.mf != nil {
+		return r.mf.Close()
 	}
-	return err
+	return nil
 }
 
 // field returns the index of the prototype field named name, or -1.

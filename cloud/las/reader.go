@@ -12,6 +12,7 @@ import (
 	"gonum.org/v1/gonum/spatial/r3"
 
 	"saddlecheck/cloud"
+	"saddlecheck/cloud/internal/mapped"
 )
 
 func init() {
@@ -35,9 +36,9 @@ const (
 // Reader streams the point records of one LAS file. It implements
 // cloud.Reader.
 type Reader struct {
-	h *Header
-	r io.ReaderAt
-	f *os.File // nil unless opened by Open
+	h  *Header
+	r  io.ReaderAt
+	mf *mapped.File // nil unless opened by Open
 	// mm maps the file opened by Open, where the system allows: point
 	// records are then decoded from the page cache without a copy.
 	mm   []byte
@@ -56,24 +57,19 @@ type Reader struct {
 // Open opens the LAS file at path. Options.Unit is applied only when it is a
 // non-metre unit (see the package documentation); Options.Columns is ignored.
 func Open(path string, opt cloud.Options) (*Reader, error) {
-	f, err := os.Open(path)
+	mf, err := mapped.Open(path)
 	if err != nil {
 		return nil, err
 	}
-	st, err := f.Stat()
+	r, err := NewReader(mf, mf.Size, opt)
 	if err != nil {
-		f.Close()
-		return nil, err
-	}
-	r, err := NewReader(f, st.Size(), opt)
-	if err != nil {
-		f.Close()
+		mf.Close()
 		return nil, fmt.Errorf("%s: %w", path, err)
 	}
-	r.f = f
+	r.mf = mf
 	r.path = path
 	r.info.Path = path
-	r.mm = mapFile(f, st.Size())
+	r.mm = mf.Data
 	return r, nil
 }
 
@@ -115,17 +111,11 @@ func (r *Reader) Close() error {
 	}
 	r.closed = true
 	r.buf = nil
-	var err error
-	if r.mm != nil {
-		err = unmapFile(r.mm)
-		r.mm = nil
+	r.mm = nil
+	if r.mf != nil {
+		return r.mf.Close()
 	}
-	if r.f != nil {
-		if cerr := r.f.Close(); err == nil {
-			err = cerr
-		}
-	}
-	return err
+	return nil
 }
 
 // Read resets c and fills it with up to max point records (max <= 0 means

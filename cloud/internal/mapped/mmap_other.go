@@ -1,6 +1,6 @@
 //go:build !unix
 
-package e57
+package mapped
 
 import "os"
 

@@ -1,9 +1,0 @@
-//go:build !unix
-
-package las
-
-import "os"
-
-func mapFile(*os.File, int64) []byte { return nil }
-
-func unmapFile([]byte) error { return nil }
