@@ -41,7 +41,10 @@ type measurer interface {
 }
 
 // measureLocal is Saddle.project without the site-frame foot: the signed
-// distance, the site-frame unit normal and the local foot.
+// distance, the site-frame unit normal and the local foot. It repeats
+// project's first lines on purpose: building project on top of it costs
+// Project 15–20 % (measured with BenchmarkSaddleProject), as the extra
+// call is not inlined on the hot path.
 func (s *Saddle) measureLocal(p r3.Vec) (float64, r3.Vec, r3.Vec) {
 	a0, a1, a2 := &s.Axes[0], &s.Axes[1], &s.Axes[2]
 	dx, dy, dz := p.X-s.Origin.X, p.Y-s.Origin.Y, p.Z-s.Origin.Z
