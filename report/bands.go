@@ -1,7 +1,6 @@
 package report
 
 import (
-	"math"
 	"strconv"
 )
 
@@ -16,16 +15,4 @@ func BandLabels(bandsM []float64) []string {
 		prev = s
 	}
 	return append(out, ">"+prev)
-}
-
-// BandIndex returns the band of |d| (metres): i where |d| <= bandsM[i] and
-// above the previous band, len(bandsM) beyond the last.
-func BandIndex(bandsM []float64, d float64) int {
-	a := math.Abs(d)
-	for i, b := range bandsM {
-		if a <= b {
-			return i
-		}
-	}
-	return len(bandsM)
 }

@@ -27,7 +27,7 @@ type PointCSV struct {
 	files   []string
 	patches []string
 	bands   []string
-	bandsM  []float64
+	tol     deviation.Tolerance // only its bands are used
 	uncert  bool
 	fit     bool
 	zone    func(d, u float64) string
@@ -56,7 +56,7 @@ func NewPointCSV(path string, slot int, files, patches []string, bandsM []float6
 	if err != nil {
 		return nil, err
 	}
-	return &PointCSV{f: f, slot: slot, files: files, patches: patches, bandsM: bandsM, bands: BandLabels(bandsM),
+	return &PointCSV{f: f, slot: slot, files: files, patches: patches, tol: deviation.Tolerance{BandsM: bandsM}, bands: BandLabels(bandsM),
 		uncert: opt.Uncertainty, fit: opt.Fit, zone: opt.Zone}, nil
 }
 
@@ -124,7 +124,7 @@ func (w *PointCSV) format(b []byte, r *deviation.Result) []byte {
 			}
 			b = append(b, ',')
 			if st == deviation.StatusUsed {
-				b = append(b, w.bands[BandIndex(w.bandsM, r.Dev[i])]...)
+				b = append(b, w.bands[w.tol.Band(r.Dev[i])]...)
 			}
 		}
 		b = append(b, ',')

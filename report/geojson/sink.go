@@ -12,7 +12,7 @@ import (
 type Sink struct {
 	w       *Writer
 	patches []string
-	bandsM  []float64
+	tol     deviation.Tolerance // only its bands are used
 	bands   []string
 }
 
@@ -22,7 +22,7 @@ var _ deviation.Sink = (*Sink)(nil)
 // and labelling |deviation| bands with bandsM (metres) as report.BandLabels
 // does.
 func NewSink(w *Writer, patches []string, bandsM []float64) *Sink {
-	return &Sink{w: w, patches: patches, bandsM: bandsM, bands: report.BandLabels(bandsM)}
+	return &Sink{w: w, patches: patches, tol: deviation.Tolerance{BandsM: bandsM}, bands: report.BandLabels(bandsM)}
 }
 
 // Consume adds the records of r: used, far and outside points with their
@@ -44,7 +44,7 @@ func (s *Sink) Consume(r *deviation.Result) error {
 			p.Patch = s.patches[k]
 		}
 		if st == deviation.StatusUsed && !math.IsNaN(r.Dev[i]) {
-			p.Band = s.bands[report.BandIndex(s.bandsM, r.Dev[i])]
+			p.Band = s.bands[s.tol.Band(r.Dev[i])]
 		}
 		s.w.Add(p)
 	}
