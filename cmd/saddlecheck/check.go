@@ -110,12 +110,7 @@ func check(c *checkConfig, stdout, stderr io.Writer) error {
 	if err != nil {
 		return usageErr(stderr, "check", "%v", err)
 	}
-	var cols []string
-	if c.columns != "" {
-		for _, s := range strings.Split(c.columns, ",") {
-			cols = append(cols, strings.TrimSpace(s))
-		}
-	}
+	opts := cloud.Options{Unit: unit, Columns: splitColumns(c.columns)}
 	d, err := deviation.LoadDesign(c.design)
 	if err != nil {
 		return err
@@ -124,7 +119,6 @@ func check(c *checkConfig, stdout, stderr io.Writer) error {
 		return err
 	}
 
-	opts := cloud.Options{Unit: unit, Columns: cols}
 	var prog func(int64)
 	var progLabel string
 	if isTerminal(stderr) {
@@ -176,7 +170,7 @@ func check(c *checkConfig, stdout, stderr io.Writer) error {
 	for i, p := range d.Patches {
 		patchIDs[i] = p.ID
 	}
-	unc, rule, uNotes, err := uncertaintyFor(c, d, stderr)
+	unc, rule, uNotes, err := uncertaintyFor(c, d, opts, stderr)
 	if err != nil {
 		return err
 	}
@@ -431,7 +425,7 @@ func fitPatch(d *deviation.Design, k int, s *deviation.Sampler, seed uint64) rep
 // uncertaintyFor builds the per-input uncertainty enricher from the flags
 // (and, where the design file has one, its uncertainty section). It returns
 // nil when no model is given.
-func uncertaintyFor(c *checkConfig, d *deviation.Design, stderr io.Writer) (*deviation.Uncertainty, uncert.Rule, []string, error) {
+func uncertaintyFor(c *checkConfig, d *deviation.Design, opts cloud.Options, stderr io.Writer) (*deviation.Uncertainty, uncert.Rule, []string, error) {
 	var models []*uncert.Model
 	switch {
 	case c.uMM > 0 && len(c.uncertF) > 0:
@@ -483,7 +477,7 @@ func uncertaintyFor(c *checkConfig, d *deviation.Design, stderr io.Writer) (*dev
 		}
 		var byStn map[string]*uncert.Setup
 		if len(setups) != 1 {
-			has, err := hasStationColumn(c.points[i], c)
+			has, err := hasStationColumn(c.points[i], opts)
 			if err != nil {
 				return nil, uncert.Rule{}, nil, err
 			}
@@ -532,12 +526,8 @@ func loadModel(path string) (*uncert.Model, error) {
 
 // hasStationColumn reports whether the points file carries per-shot
 // station ids (a station, stn or setup column).
-func hasStationColumn(path string, c *checkConfig) (bool, error) {
-	unit, err := cloud.ParseUnit(c.units)
-	if err != nil {
-		return false, err
-	}
-	r, err := cloud.Open(path, cloud.Options{Unit: unit, Columns: splitColumns(c.columns)})
+func hasStationColumn(path string, opts cloud.Options) (bool, error) {
+	r, err := cloud.Open(path, opts)
 	if err != nil {
 		return false, err
 	}
@@ -548,15 +538,4 @@ func hasStationColumn(path string, c *checkConfig) (bool, error) {
 		}
 	}
 	return false, nil
-}
-
-func splitColumns(s string) []string {
-	if s == "" {
-		return nil
-	}
-	var cols []string
-	for _, c := range strings.Split(s, ",") {
-		cols = append(cols, strings.TrimSpace(c))
-	}
-	return cols
 }

@@ -68,3 +68,15 @@ func withFile(path string, err error) error {
 	}
 	return fmt.Errorf("%s: %w", path, err)
 }
+
+// splitColumns turns a --columns list ("id, n,e,z") into names.
+func splitColumns(s string) []string {
+	if s == "" {
+		return nil
+	}
+	var cols []string
+	for _, c := range strings.Split(s, ",") {
+		cols = append(cols, strings.TrimSpace(c))
+	}
+	return cols
+}

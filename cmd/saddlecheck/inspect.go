@@ -42,12 +42,7 @@ func runInspect(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return usageErr(stderr, "inspect", "%v", err)
 	}
-	var cols []string
-	if *columns != "" {
-		for _, c := range strings.Split(*columns, ",") {
-			cols = append(cols, strings.TrimSpace(c))
-		}
-	}
+	cols := splitColumns(*columns)
 	for _, path := range fs.Args() {
 		r, err := cloud.Open(path, cloud.Options{Unit: unit, Columns: cols})
 		if err != nil {
