@@ -360,3 +360,28 @@ func (g *Grid) Merge(o *Grid) error {
 
 // Cell returns cell (i, j): i along X, j along Y.
 func (g *Grid) Cell(i, j int) GridCell { return g.cells[j*g.NX+i] }
+
+// HistogramInto re-bins the fine histogram of a into len(counts) bins of
+// width binM starting at fromM (metres), adding to counts; values below
+// fromM or above the last bin add to under and over. Each fine bin goes
+// whole to the coarse bin holding its centre, so the coarse counts are
+// exact to one fine bin (HistBinM) at each edge.
+func HistogramInto(a *Acc, fromM, binM float64, counts []int64, under, over *int64) {
+	*under += a.under
+	*over += a.over
+	for i, c := range a.hist {
+		if c == 0 {
+			continue
+		}
+		centre := -a.far + (float64(i)+0.5)/a.binsPerMetre
+		k := int(math.Floor((centre - fromM) / binM))
+		switch {
+		case k < 0:
+			*under += c
+		case k >= len(counts):
+			*over += c
+		default:
+			counts[k] += c
+		}
+	}
+}

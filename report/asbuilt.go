@@ -79,15 +79,7 @@ func buildLocalMap(c *deviation.Collector, d *deviation.Design, base Map) Map {
 	}
 	if g := c.LocalGrid; g != nil {
 		m.CellM = g.CellM
-		for j := 0; j < g.NY; j++ {
-			for i := 0; i < g.NX; i++ {
-				cell := g.Cell(i, j)
-				if cell.N > 0 {
-					m.Cells = append(m.Cells, Cell{X: g.X0 + float64(i)*g.CellM, Y: g.Y0 + float64(j)*g.CellM, N: cell.N,
-						MeanMM: cell.Mean() * 1000, MinMM: cell.Min * 1000, MaxMM: cell.Max * 1000})
-				}
-			}
-		}
+		m.Cells = gridCells(g)
 	}
 	return m
 }

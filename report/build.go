@@ -184,20 +184,29 @@ func buildMap(c *deviation.Collector, d *deviation.Design) Map {
 	}
 	if g := c.Grid; g != nil {
 		m.CellM = g.CellM
-		for j := 0; j < g.NY; j++ {
-			for i := 0; i < g.NX; i++ {
-				cell := g.Cell(i, j)
-				if cell.N == 0 {
-					continue
-				}
-				x, y := g.X0+float64(i)*g.CellM, g.Y0+float64(j)*g.CellM
-				m.Cells = append(m.Cells, Cell{X: x, Y: y, N: cell.N, MeanMM: cell.Mean() * 1000, MinMM: cell.Min * 1000, MaxMM: cell.Max * 1000})
-				grow(x, y)
-				grow(x+g.CellM, y+g.CellM)
-			}
+		m.Cells = gridCells(g)
+		for _, cell := range m.Cells {
+			grow(cell.X, cell.Y)
+			grow(cell.X+g.CellM, cell.Y+g.CellM)
 		}
 	}
 	return m
+}
+
+// gridCells lists the non-empty cells of g, in millimetres.
+func gridCells(g *deviation.Grid) []Cell {
+	var out []Cell
+	for j := 0; j < g.NY; j++ {
+		for i := 0; i < g.NX; i++ {
+			cell := g.Cell(i, j)
+			if cell.N == 0 {
+				continue
+			}
+			out = append(out, Cell{X: g.X0 + float64(i)*g.CellM, Y: g.Y0 + float64(j)*g.CellM, N: cell.N,
+				MeanMM: cell.Mean() * 1000, MinMM: cell.Min * 1000, MaxMM: cell.Max * 1000})
+		}
+	}
+	return out
 }
 
 func cellCentre(c *Cell, size float64) r3.Vec {
