@@ -126,14 +126,7 @@ func BenchmarkPeerDistance(b *testing.B) {
 			}
 			pts := readAll(b, p)
 			b.ReportAllocs()
-			b.ResetTimer()
-			for i := 0; i < b.N; i++ {
-				s := &nullSink{}
-				if err := deviation.Run([]deviation.Input{{Reader: &memReader{pts: pts}}}, d, []deviation.Sink{s}, deviation.RunOptions{}); err != nil {
-					b.Fatal(err)
-				}
-			}
-			b.ReportMetric(float64(len(pts))*float64(b.N)/b.Elapsed().Seconds(), "points/s")
+			benchChain(b, d, pts)
 		})
 	}
 }
@@ -171,14 +164,20 @@ func BenchmarkPeerMesh(b *testing.B) {
 				b.Skipf("design_mesh.yaml beside the workload: %v (testdata/peers/bench.sh writes it)", err)
 			}
 			pts := readAll(b, p)
-			b.ResetTimer()
-			for i := 0; i < b.N; i++ {
-				s := &nullSink{}
-				if err := deviation.Run([]deviation.Input{{Reader: &memReader{pts: pts}}}, d, []deviation.Sink{s}, deviation.RunOptions{}); err != nil {
-					b.Fatal(err)
-				}
-			}
-			b.ReportMetric(float64(len(pts))*float64(b.N)/b.Elapsed().Seconds(), "points/s")
+			benchChain(b, d, pts)
 		})
 	}
+}
+
+// benchChain times the streaming chain over pts against d and reports
+// points/s.
+func benchChain(b *testing.B, d *deviation.Design, pts []r3.Vec) {
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		s := &nullSink{}
+		if err := deviation.Run([]deviation.Input{{Reader: &memReader{pts: pts}}}, d, []deviation.Sink{s}, deviation.RunOptions{}); err != nil {
+			b.Fatal(err)
+		}
+	}
+	b.ReportMetric(float64(len(pts))*float64(b.N)/b.Elapsed().Seconds(), "points/s")
 }
