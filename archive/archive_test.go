@@ -280,7 +280,7 @@ func TestPropertyRoundTrip(t *testing.T) {
 					if err := b.Extract(e.PointsHash, out); err != nil {
 						t.Fatal(err)
 					}
-					h, _ := hashFile(out)
+					h, _ := HashFile(out)
 					if h != e.PointsHash {
 						t.Fatalf("extracted hash %s, want %s", h, e.PointsHash)
 					}

@@ -128,7 +128,7 @@ func (a *Archive) Check(deep bool) ([]string, error) {
 			continue
 		}
 		if deep {
-			got, err := hashFile(path)
+			got, err := HashFile(path)
 			if err != nil {
 				return nil, fmt.Errorf("archive: %w", err)
 			}

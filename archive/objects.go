@@ -138,8 +138,9 @@ func (a *Archive) Extract(hash, dst string) error {
 	return nil
 }
 
-// hashFile returns the SHA-256 hex digest of the file at path.
-func hashFile(path string) (string, error) {
+// HashFile returns the SHA-256 hex digest of the file at path (the key of
+// stored objects, and the input hash every report prints).
+func HashFile(path string) (string, error) {
 	f, err := os.Open(path)
 	if err != nil {
 		return "", err

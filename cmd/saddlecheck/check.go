@@ -1,8 +1,6 @@
 package main
 
 import (
-	"crypto/sha256"
-	"encoding/hex"
 	"errors"
 	"fmt"
 	"io"
@@ -13,6 +11,7 @@ import (
 	"gonum.org/v1/gonum/spatial/r3"
 	"gopkg.in/yaml.v3"
 
+	"saddlecheck/archive"
 	"saddlecheck/cloud"
 	"saddlecheck/deviation"
 	"saddlecheck/fit"
@@ -332,16 +331,8 @@ func (t *timedReader) Read(c *cloud.Chunk, max int) error {
 }
 
 func fileSHA256(path string) (string, error) {
-	f, err := os.Open(path)
-	if err != nil {
-		return "", err
-	}
-	defer f.Close()
-	h := sha256.New()
-	if _, err := io.Copy(h, f); err != nil {
-		return "", fmt.Errorf("%s: %w", path, err)
-	}
-	return hex.EncodeToString(h.Sum(nil)), nil
+	h, err := archive.HashFile(path)
+	return h, withFile(path, err)
 }
 
 // fitSample is the largest number of points per patch the as-built fit
