@@ -2,7 +2,6 @@ package cloud
 
 import (
 	"fmt"
-	"io"
 	"math"
 	"strings"
 )
@@ -114,4 +113,3 @@ func RegisterFormat(f Format) { formats = append(formats, f) }
 // finite reports whether v is neither NaN nor ±Inf.
 func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
 
-var _ = io.EOF

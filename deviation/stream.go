@@ -2,7 +2,6 @@ package deviation
 
 import (
 	"errors"
-	"fmt"
 	"io"
 	"math"
 	"runtime"
@@ -360,4 +359,3 @@ func Measure(d *Design, c *cloud.Chunk, enrich ...Enricher) *Result {
 	return r
 }
 
-var _ = fmt.Sprintf
