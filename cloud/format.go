@@ -112,4 +112,3 @@ func RegisterFormat(f Format) { formats = append(formats, f) }
 
 // finite reports whether v is neither NaN nor ±Inf.
 func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
-

@@ -358,4 +358,3 @@ func Measure(d *Design, c *cloud.Chunk, enrich ...Enricher) *Result {
 	measure(d, r, enrich)
 	return r
 }
-
