@@ -11,6 +11,8 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+
+	"saddlecheck/deviation"
 )
 
 func runArgs(t *testing.T, args ...string) (int, string, string) {
@@ -442,5 +444,40 @@ func TestPerShotStations(t *testing.T) {
 	code, _, stderr = runArgs(t, "check", "--design", design, "--points", points, "--out", res, "--uncertainty", model, "--no-fit")
 	if code != exitUsage || !strings.Contains(stderr, "station column") {
 		t.Errorf("exit %d, %q: want 2 and a request for a station column", code, stderr)
+	}
+}
+
+// TestREADMEDesignExample: the design file shown in README.md parses as
+// written, so a first-time user who copies it gets a working design.
+func TestREADMEDesignExample(t *testing.T) {
+	raw, err := os.ReadFile(filepath.Join("..", "..", "README.md"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	text := string(raw)
+	i := strings.Index(text, "```yaml\nstructure:")
+	if i < 0 {
+		t.Fatal("README.md has no design-file example")
+	}
+	body := text[i+len("```yaml\n"):]
+	body = body[:strings.Index(body, "```")]
+	d, err := deviation.ParseDesign("README example", []byte(body), ".")
+	if err != nil {
+		t.Fatalf("the README's design example does not parse: %v", err)
+	}
+	if len(d.Patches) != 2 || d.Tolerance.Source == "" {
+		t.Errorf("README example: %d patches, source %q", len(d.Patches), d.Tolerance.Source)
+	}
+	// and so does its uncertainty model example
+	j := strings.Index(text, "```yaml\ninstrument:")
+	if j < 0 {
+		t.Fatal("README.md has no uncertainty-model example")
+	}
+	ub := text[j+len("```yaml\n"):]
+	ub = ub[:strings.Index(ub, "```")]
+	f := filepath.Join(t.TempDir(), "model.yaml")
+	os.WriteFile(f, []byte(ub), 0o644)
+	if _, err := loadModel(f); err != nil {
+		t.Errorf("the README's uncertainty example does not parse: %v", err)
 	}
 }
